@@ -1,0 +1,131 @@
+"""Lowest modes of the undamped problem K x = lambda M x.
+
+One entry point, :func:`lowest_modes`, shared by the modes analysis and the
+Craig-Bampton reduction. K is symmetric positive semi-definite (it may be
+singular: a free-floating vehicle or component has rigid-body modes), M is
+symmetric positive definite. Both may be dense arrays or scipy sparse.
+
+Two paths:
+
+- dense (``n <= DENSE_LIMIT`` DOFs, or when nearly all modes are asked for):
+  :func:`scipy.linalg.eigh` on the generalised problem;
+- sparse (larger): shift-invert Lanczos, :func:`scipy.sparse.linalg.eigsh`
+  with ``sigma`` slightly below zero, so that ``K - sigma M`` is positive
+  definite and can be factorised even when K is singular. The start vector
+  is a fixed pseudo-random vector, so repeated runs give identical results.
+
+Either way the returned shapes are made M-orthonormal by a final Rayleigh-Ritz
+step on the found subspace (``X^T M X = I``, ``X^T K X = diag(lambda)``) and
+get a reproducible sign: the component of largest magnitude is positive
+(the first such index on a tie). Shapes of repeated eigenvalues are any
+M-orthonormal basis of their space.
+
+>>> import numpy as np
+>>> lam, x = lowest_modes(np.array([[2.0, -1.0], [-1.0, 2.0]]), np.eye(2), 2)
+>>> [round(float(v), 12) for v in lam]
+[1.0, 3.0]
+"""
+
+from __future__ import annotations
+
+__all__ = ["lowest_modes", "DENSE_LIMIT", "DEFAULT_SHIFT", "natural_frequencies_hz"]
+
+import numpy as np
+import scipy.linalg
+import scipy.sparse
+import scipy.sparse.linalg
+
+from .errors import InputError
+
+#: Problems with at most this many DOFs are solved densely.
+DENSE_LIMIT = 600
+
+#: Default shift of the sparse path, rad^2/s^2: about -(0.16 Hz)^2, slightly
+#: below the rigid-body modes (0) and far below any vehicle mode of interest.
+DEFAULT_SHIFT = -1.0
+
+#: Seed of the fixed start vector of the sparse path.
+_START_SEED = 20_240_611
+
+
+def _as_dense(a) -> np.ndarray:
+    return a.toarray() if scipy.sparse.issparse(a) else np.asarray(a, dtype=float)
+
+
+def _sign_convention(shapes: np.ndarray) -> np.ndarray:
+    """Flip each column so that its component of largest magnitude is positive."""
+    if shapes.size == 0:
+        return shapes
+    idx = np.argmax(np.abs(shapes), axis=0)
+    signs = np.sign(shapes[idx, np.arange(shapes.shape[1])])
+    signs[signs == 0] = 1.0
+    return shapes * signs
+
+
+def _rayleigh_ritz(K, M, basis: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Eigenpairs of K, M restricted to span(basis), M-orthonormal, ascending."""
+    kb = np.asarray(K @ basis)
+    mb = np.asarray(M @ basis)
+    kr = basis.T @ kb
+    mr = basis.T @ mb
+    kr = 0.5 * (kr + kr.T)
+    mr = 0.5 * (mr + mr.T)
+    lam, y = scipy.linalg.eigh(kr, mr)
+    return lam, basis @ y
+
+
+def lowest_modes(K, M, count: int, sigma: float | None = None,
+                 dense_limit: int = DENSE_LIMIT) -> tuple[np.ndarray, np.ndarray]:
+    """The ``count`` lowest eigenpairs of K x = lambda M x.
+
+    Parameters
+    ----------
+    K : (n, n) symmetric positive semi-definite stiffness (N/m, N m/rad, ...),
+        dense or scipy sparse.
+    M : (n, n) symmetric positive definite mass (kg, kg m^2, ...), same kinds.
+    count : number of modes wanted, 1 <= count <= n.
+    sigma : shift of the sparse path, rad^2/s^2 (default :data:`DEFAULT_SHIFT`);
+        modes nearest above it are found first. Must not be an eigenvalue.
+    dense_limit : size up to which the dense solver is used.
+
+    Returns
+    -------
+    eigenvalues : (count,) ascending, rad^2/s^2 (omega^2). Rigid-body modes come
+        out as round-off values near zero, possibly slightly negative.
+    shapes : (n, count) columns M-orthonormal (``X^T M X = I``), largest
+        component of each positive.
+    """
+    n = K.shape[0]
+    if K.shape != (n, n) or M.shape != (n, n):
+        raise InputError(f"stiffness {K.shape} and mass {M.shape} must be square and alike")
+    count = int(count)
+    if count < 1 or count > n:
+        raise InputError(f"asked for {count} modes of a model with {n} DOFs")
+    if n <= dense_limit or count >= n - 1 or 2 * count >= n:
+        k = _as_dense(K)
+        m = _as_dense(M)
+        lam, x = scipy.linalg.eigh(0.5 * (k + k.T), 0.5 * (m + m.T),
+                                   subset_by_index=[0, count - 1])
+        return lam, _sign_convention(x)
+    shift = DEFAULT_SHIFT if sigma is None else float(sigma)
+    k = scipy.sparse.csc_array(K)
+    m = scipy.sparse.csc_array(M)
+    shifted = (k - shift * m).tocsc()
+    try:
+        solve = scipy.sparse.linalg.factorized(shifted)
+    except RuntimeError as exc:  # exactly singular factor
+        raise InputError(f"K - sigma M is singular at sigma = {shift:g} rad^2/s^2 "
+                         "(is M positive definite?)") from exc
+    op = scipy.sparse.linalg.LinearOperator((n, n), matvec=solve, dtype=float)
+    v0 = np.random.default_rng(_START_SEED).standard_normal(n)
+    # Shift-invert mode: the operator is (K - sigma M)^-1, given explicitly.
+    _, x = scipy.sparse.linalg.eigsh(k, k=count, M=m, sigma=shift, which="LM",
+                                     OPinv=op, v0=v0, ncv=min(n, max(2 * count + 1, 20)))
+    lam, x = _rayleigh_ritz(k, m, x)
+    return lam, _sign_convention(x)
+
+
+def natural_frequencies_hz(eigenvalues: np.ndarray) -> np.ndarray:
+    """Natural frequencies, Hz, of eigenvalues omega^2 (rad^2/s^2); negatives give 0."""
+    lam = np.asarray(eigenvalues, dtype=float)
+    return np.sqrt(np.clip(lam, 0.0, None)) / (2.0 * np.pi)
