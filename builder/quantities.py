@@ -352,6 +352,8 @@ def parse_quantity(value: object,
     as SI in whatever dimension the field asks for. Raises ValueError with
     the reason.
     """
+    if isinstance(value, Quantity):
+        return value
     if isinstance(value, bool) or value is None:
         raise ValueError("not a number")
     if isinstance(value, int | float):
@@ -420,6 +422,8 @@ def _is_plain(value: object, parameters: Mapping[str, Quantity] | None) -> bool:
     expression whose parameters are all bare numbers. Read as SI."""
     if isinstance(value, int | float):
         return True
+    if isinstance(value, Quantity):
+        return value.dim == NONE
     if not isinstance(value, str):
         return False
     m = _EXPR.match(value)

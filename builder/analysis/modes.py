@@ -1,0 +1,338 @@
+"""Natural frequencies, mode shapes, damping and labels of a LinearModel.
+
+Undamped modes solve the generalised symmetric problem K phi = omega^2 M phi
+(shapes mass-normalised, phi^T M phi = 1). Damped modes come from the
+state-space eigenproblem of [[0, I], [-M^-1 K, -M^-1 C]] and are paired with
+the undamped ones by MAC on their displacement part; each pair gives a
+damping ratio zeta = -Re(s)/|s| and a damped frequency |Im(s)|/(2 pi). An
+overdamped mode has two real roots s1, s2 instead, reported with
+zeta = -(s1 + s2) / (2 sqrt(s1 s2)) > 1. A loss factor (hysteretic H)
+counts at each mode's own frequency, as the equivalent viscous H/omega.
+
+Zero-frequency modes (rigid-body motion or a mechanism) are reported with
+frequency 0 and label ``rigid``, never an error.
+
+Each mode's kinetic energy is split over the DOFs, e_j = phi_j (M phi)_j,
+summing to 1 (with inertia products a share can be slightly negative).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import scipy.linalg
+from scipy.optimize import linear_sum_assignment
+
+from ..eigen import lowest_modes
+from ..linear import LinearModel
+
+__all__ = ["Mode", "ModeSet", "compute_modes", "mac", "mac_matrix", "label_mode",
+           "DEFAULT_COUNT"]
+
+#: Modes computed by default for large models (all modes for small ones).
+DEFAULT_COUNT = 20
+_SMALL = 200  # models up to this size get exact damped modes per mode
+
+_WORDS = {"x": "fore-aft", "y": "lateral", "z": "bounce", "rx": "roll", "ry": "pitch",
+          "rz": "yaw"}
+
+
+@dataclass(frozen=True, eq=False)
+class Mode:
+    """One mode: frequencies in Hz, shape over the model's DOFs (mass-normalised)."""
+
+    number: int
+    frequency_hz: float
+    damping_ratio: float | None
+    damped_frequency_hz: float | None
+    label: str
+    shape: np.ndarray
+    energy: dict[str, float]
+    rigid: bool = False
+    overdamped: bool = False
+    roots: tuple[complex, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        """The mode as in the format's ``modes --json``."""
+        return {"number": self.number, "frequency_hz": self.frequency_hz,
+                "damping_ratio": self.damping_ratio, "label": self.label,
+                "energy": self.energy, "damped_frequency_hz": self.damped_frequency_hz,
+                "overdamped": self.overdamped}
+
+
+@dataclass(frozen=True, eq=False)
+class ModeSet:
+    """The modes of one model, sorted by undamped frequency."""
+
+    model: LinearModel
+    modes: tuple[Mode, ...]
+    notes: tuple[str, ...] = field(default=())
+
+    @property
+    def frequencies_hz(self) -> np.ndarray:
+        return np.array([m.frequency_hz for m in self.modes])
+
+    @property
+    def shapes(self) -> np.ndarray:
+        """(n, nmodes) mass-normalised shapes."""
+        return np.column_stack([m.shape for m in self.modes]) if self.modes else \
+            np.zeros((self.model.n, 0))
+
+    @property
+    def rigid_count(self) -> int:
+        return sum(m.rigid for m in self.modes)
+
+    def __len__(self) -> int:
+        return len(self.modes)
+
+    def __getitem__(self, i: int) -> Mode:
+        return self.modes[i]
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"model": {"name": self.model.name, "dofs": list(self.model.dofs)},
+                "modes": [m.to_dict() for m in self.modes], "notes": list(self.notes)}
+
+    def table(self) -> str:
+        """A plain-text table: number, frequency, damping, damped frequency, label."""
+        lines = [f"{'mode':>4}  {'f (Hz)':>9}  {'zeta':>7}  {'fd (Hz)':>9}  label",
+                 f"{'-' * 4}  {'-' * 9}  {'-' * 7}  {'-' * 9}  {'-' * 30}"]
+        for m in self.modes:
+            z = "-" if m.damping_ratio is None else f"{m.damping_ratio:7.3f}"
+            fd = "-" if m.damped_frequency_hz is None else f"{m.damped_frequency_hz:9.3f}"
+            lines.append(f"{m.number:>4}  {m.frequency_hz:9.3f}  {z:>7}  {fd:>9}  {m.label}")
+        lines.extend(f"note: {n}" for n in self.notes)
+        return "\n".join(lines)
+
+    def csv_rows(self) -> list[list[Any]]:
+        """Header and rows: number, frequency, damping, label, then energy per DOF."""
+        dofs = list(self.model.dofs)
+        rows: list[list[Any]] = [["number", "frequency_hz", "damping_ratio",
+                                  "damped_frequency_hz", "label", *[f"energy:{d}" for d in dofs]]]
+        for m in self.modes:
+            rows.append([m.number, m.frequency_hz, m.damping_ratio, m.damped_frequency_hz,
+                         m.label, *[m.energy[d] for d in dofs]])
+        return rows
+
+
+def mac(a: np.ndarray, b: np.ndarray) -> float:
+    """Modal assurance criterion |a^H b|^2 / ((a^H a)(b^H b)), 0..1."""
+    num = abs(np.vdot(a, b)) ** 2
+    den = float(np.real(np.vdot(a, a) * np.vdot(b, b)))
+    return float(num / den) if den > 0 else 0.0
+
+
+def mac_matrix(A: np.ndarray, B: np.ndarray) -> np.ndarray:
+    """MAC between every column of A and every column of B."""
+    num = np.abs(A.conj().T @ B) ** 2
+    den = np.outer(np.real(np.sum(A.conj() * A, 0)), np.real(np.sum(B.conj() * B, 0)))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(den > 0, num / den, 0.0)
+
+
+def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
+    """Undamped and damped modes of a model (all for small models, else ``count``)."""
+    n = model.n
+    if n == 0:
+        return ModeSet(model, (), ("the model has no DOFs",))
+    count = n if (count is None and n <= 600) else min(count or DEFAULT_COUNT, n)
+    lam, shapes = lowest_modes(model.K, model.M, count)
+    Kd = np.abs(model.K.diagonal())
+    Md = np.abs(model.M.diagonal())
+    scale = float(np.max(Kd / np.where(Md > 0, Md, 1.0))) if n else 1.0
+    rigid = lam < 1e-9 * max(scale, 1e-300)
+    omega = np.sqrt(np.clip(lam, 0.0, None))
+    omega[rigid] = 0.0
+    Mphi = np.asarray(model.M @ shapes)
+    energies = shapes * Mphi
+    damping = _damped(model, shapes, omega, rigid)
+    # Labels read the motion of every body: a reduced model's shapes are
+    # expanded to the full model first, so condensed and tied DOFs count.
+    if model.parent is not None:
+        full, full_shapes = model.parent, np.asarray(model.expansion @ shapes)
+        full_energy = full_shapes * np.asarray(full.M @ full_shapes)
+    else:
+        full, full_shapes, full_energy = model, shapes, energies
+    modes = []
+    for i in range(count):
+        energy = {d: float(e) for d, e in zip(model.dofs, energies[:, i])}
+        zeta, fd, over, roots = damping[i]
+        label = "rigid" if rigid[i] else label_mode(full, full_shapes[:, i], full_energy[:, i])
+        modes.append(Mode(i + 1, float(omega[i] / (2 * math.pi)), zeta, fd, label,
+                          shapes[:, i].copy(), energy, bool(rigid[i]), over, roots))
+    notes = []
+    nr = int(rigid.sum())
+    if nr:
+        notes.append(_rigid_note(model, nr))
+    return ModeSet(model, tuple(modes), tuple(notes))
+
+
+def _rigid_note(model: LinearModel, count: int) -> str:
+    anchored = model.assembly is not None and (
+        any(lk.a.kind != "body" or lk.b.kind != "body"
+            for lk in model.assembly.links.values()))
+    what = "mechanism (unrestrained) modes" if anchored else "rigid-body modes"
+    return (f"{count} zero-frequency {what}: the model can move without deforming any link"
+            + ("; check for a missing link or a DOF without stiffness" if anchored else ""))
+
+
+def _damped(model: LinearModel, shapes: np.ndarray, omega: np.ndarray, rigid: np.ndarray
+            ) -> list[tuple[float | None, float | None, bool, tuple[complex, ...]]]:
+    """(zeta, damped frequency Hz, overdamped, roots) for each undamped mode."""
+    count = shapes.shape[1]
+    no_damping = model.C.nnz == 0 and model.H.nnz == 0
+    out: list[tuple[float | None, float | None, bool, tuple[complex, ...]]] = []
+    if no_damping:
+        for i in range(count):
+            out.append((None, None, False, ()) if rigid[i] else
+                       (0.0, float(omega[i] / (2 * math.pi)), False,
+                        (1j * omega[i], -1j * omega[i])))
+        return out
+    if model.n > _SMALL:
+        return [_modal_estimate(model, shapes[:, i], omega[i], rigid[i]) for i in range(count)]
+    M, K, C, H = (m.toarray() for m in (model.M, model.K, model.C, model.H))
+    cache: dict[float, tuple[np.ndarray, np.ndarray]] = {}
+    has_h = model.H.nnz > 0
+    for i in range(count):
+        if rigid[i]:
+            out.append((None, None, False, ()))
+            continue
+        key = float(omega[i]) if has_h else 0.0
+        if key not in cache:
+            cache[key] = _state_roots(M, K, C + (H / omega[i] if has_h else 0.0))
+        s, psi = cache[key]
+        out.append(_pair(i, s, psi, shapes, omega))
+    return out
+
+
+def _state_roots(M: np.ndarray, K: np.ndarray, C: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    n = M.shape[0]
+    A = np.block([[np.zeros((n, n)), np.eye(n)],
+                  [-np.linalg.solve(M, K), -np.linalg.solve(M, C)]])
+    s, v = scipy.linalg.eig(A)
+    return s, v[:n]
+
+
+def _pair(i: int, s: np.ndarray, psi: np.ndarray, shapes: np.ndarray, omega: np.ndarray
+          ) -> tuple[float | None, float | None, bool, tuple[complex, ...]]:
+    """Pick the state-space root(s) belonging to undamped mode i by MAC."""
+    tol = 1e-9 * max(np.abs(s).max(), 1e-300)
+    cand = np.flatnonzero((s.imag >= -tol))
+    macs = mac_matrix(shapes, psi[:, cand])
+    # one-to-one assignment of modes to candidate roots keeps close modes apart
+    rows, cols = linear_sum_assignment(1.0 - macs)
+    j = cand[cols[list(rows).index(i)]] if i in rows else cand[np.argmax(macs[i])]
+    root = s[j]
+    if abs(root.imag) > tol:
+        wn = abs(root)
+        return (float(-root.real / wn), float(abs(root.imag) / (2 * math.pi)), False,
+                (complex(root), complex(np.conj(root))))
+    real = [k for k in cand if abs(s[k].imag) <= tol and k != j]
+    if not real:
+        return (None, None, True, (complex(root),))
+    k = max(real, key=lambda k: mac(shapes[:, i], psi[:, k]))
+    s1, s2 = float(root.real), float(s[k].real)
+    if s1 * s2 <= 0:
+        return (None, None, True, (complex(s1), complex(s2)))
+    wn = math.sqrt(s1 * s2)
+    return (float(-(s1 + s2) / (2 * wn)), None, True, (complex(s1), complex(s2)))
+
+
+def _modal_estimate(model: LinearModel, phi: np.ndarray, w: float, rigid: bool
+                    ) -> tuple[float | None, float | None, bool, tuple[complex, ...]]:
+    """Diagonal modal damping (large models): zeta = phi^T C phi/(2w) + phi^T H phi/(2w^2)."""
+    if rigid or w <= 0:
+        return (None, None, False, ())
+    zeta = float(phi @ (model.C @ phi)) / (2 * w) + float(phi @ (model.H @ phi)) / (2 * w * w)
+    if zeta >= 1.0:
+        return (zeta, None, True, ())
+    wd = w * math.sqrt(1 - zeta * zeta)
+    s = complex(-zeta * w, wd)
+    return (zeta, wd / (2 * math.pi), False, (s, s.conjugate()))
+
+
+# ------------------------------------------------------------------ labels --
+
+def label_mode(model: LinearModel, shape: np.ndarray, energy: np.ndarray) -> str:
+    """A short description of a mode from its dominant DOFs and their phase.
+
+    Energy is summed per body; the bodies holding most of it (80 %) are
+    named with their dominant motion. Two bodies mirrored about the x-z
+    plane with the same motion are described as a pair, "in phase" or
+    "opposed"; a body whose DOF is linked straight to a road point "hops"
+    rather than bounces.
+    """
+    dofs = model.dofs
+    per_body: dict[str, list[int]] = {}
+    for j, d in enumerate(dofs):
+        per_body.setdefault(d.rsplit(".", 1)[0], []).append(j)
+    e = np.clip(np.asarray(energy, float), 0.0, None)
+    total = e.sum() or 1.0
+    ranked = sorted(per_body, key=lambda b: -e[per_body[b]].sum())
+    chosen, acc = [], 0.0
+    for b in ranked:
+        chosen.append(b)
+        acc += e[per_body[b]].sum() / total
+        if acc >= 0.8 or len(chosen) == 4:
+            break
+    parts = []
+    for b in chosen:
+        idx = sorted(per_body[b], key=lambda j: -e[j])
+        main = idx[0]
+        word = _word(model, b, dofs[main].rsplit(".", 1)[1])
+        second = [j for j in idx[1:] if e[j] >= 0.25 * e[main]]
+        if second:
+            word += " with " + _word(model, b, dofs[second[0]].rsplit(".", 1)[1])
+        parts.append((b, dofs[main], word, float(np.sign(shape[main]) or 1.0)))
+    if len(parts) == 1:
+        return f"{parts[0][0]} {parts[0][2]}"
+    pair = _pair_words(model, parts[:2]) if len(parts) >= 2 else None
+    if pair and len(parts) == 2:
+        return pair
+    words = [f"{b} {w}" for b, _, w, _ in parts]
+    signs = [s for *_, s in parts]
+    phase = "in phase" if all(s == signs[0] for s in signs) else \
+        "opposed" if len(parts) == 2 else "mixed phase"
+    if pair:
+        return f"{pair}; with {', '.join(words[2:])}"
+    return f"{' + '.join(words)} ({phase})"
+
+
+def _word(model: LinearModel, body: str, dof: str) -> str:
+    if dof == "z" and model.assembly is not None and any(
+            (lk.a.node == body and lk.b.kind == "road") or
+            (lk.b.node == body and lk.a.kind == "road")
+            for lk in model.assembly.links.values()):
+        return "hop"
+    return _WORDS.get(dof, dof)
+
+
+def _pair_words(model: LinearModel, parts: list[tuple[str, str, str, float]]) -> str | None:
+    (b1, d1, w1, s1), (b2, d2, w2, s2) = parts
+    if w1 != w2 or d1.rsplit(".", 1)[1] != d2.rsplit(".", 1)[1] or model.assembly is None:
+        return None
+    bodies = model.assembly.bodies
+    if b1 not in bodies or b2 not in bodies:
+        return None
+    c1, c2 = bodies[b1].cg, bodies[b2].cg
+    mirrored = abs(c1[0] - c2[0]) < 0.05 and abs(c1[1] + c2[1]) < 0.05 and abs(c1[1]) > 0.05
+    if not mirrored:
+        return None
+    _, cg, _ = model.assembly.mass_properties()
+    where = "front" if c1[0] > cg[0] else "rear"
+    common = _common_stem(b1, b2)
+    noun = f"{common}s" if common else f"{b1}/{b2}"
+    phase = "in phase" if s1 == s2 else "opposed"
+    return f"{where} {noun} {w1}, {phase}"
+
+
+def _common_stem(a: str, b: str) -> str:
+    pa, pb = a.split("_"), b.split("_")
+    stem = []
+    for x, y in zip(pa, pb):
+        if x != y:
+            break
+        stem.append(x)
+    return "_".join(stem)

@@ -1,0 +1,73 @@
+"""``bushing``: three translational and three rotational stiffnesses in a local frame.
+
+The elastic element acts at end a's point: the relative motion of end b's
+body and end a's body, both taken at that point, is resolved in the local
+frame (rows of ``frame``), ``d = R6 (m_b - m_a)``; so K = D^T diag(k) D with
+D = [-R6, R6] and the global stiffness is R^T K_local R, as the format says.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+import numpy as np
+
+from ..errors import Where
+from ..quantities import Quantity
+from ..yamlnodes import Node
+from . import ElementMatrices, parse_frame, register_link_type
+
+__all__ = ["Bushing", "bushing_props", "COMPONENTS"]
+
+COMPONENTS = ("x", "y", "z", "rx", "ry", "rz")
+_DIMS = ("stiffness",) * 3 + ("rotational_stiffness",) * 3
+_DAMP = ("damping",) * 3 + ("rotational_damping",) * 3
+
+
+def bushing_props(frame: np.ndarray, stiffness: np.ndarray, damping: np.ndarray | None = None,
+                  loss_factor: float = 0.0) -> dict[str, Any]:
+    """Props of a bushing: frame (3x3, rows = local axes), six stiffnesses
+    (N/m x3, N m/rad x3), six dampings (N s/m, N m s/rad), loss factor (-)."""
+    return {"frame": np.asarray(frame, dtype=float),
+            "stiffness": np.asarray(stiffness, dtype=float).reshape(6),
+            "damping": np.zeros(6) if damping is None else np.asarray(damping, float).reshape(6),
+            "loss_factor": float(loss_factor)}
+
+
+def _six(node: Node, dims: tuple[str, ...], parameters: Mapping[str, Quantity]) -> np.ndarray:
+    f = node.mapping(COMPONENTS)
+    return np.array([f[c].quantity(d, parameters, "nonnegative") if c in f else 0.0
+                     for c, d in zip(COMPONENTS, dims)])
+
+
+class Bushing:
+    name = "bushing"
+    keys = ("frame", "stiffness", "damping", "loss_factor")
+    required = ("stiffness",)
+
+    def parse(self, fields: dict[str, Node], a: Any, b: Any,
+              parameters: Mapping[str, Quantity], where: Where) -> dict[str, Any]:
+        frame = parse_frame(fields.get("frame"), parameters)
+        k = _six(fields["stiffness"], _DIMS, parameters)
+        c = _six(fields["damping"], _DAMP, parameters) if "damping" in fields else np.zeros(6)
+        eta = fields["loss_factor"].quantity("dimensionless", parameters, "nonnegative") \
+            if "loss_factor" in fields else 0.0
+        props = bushing_props(frame, k, c, eta)
+        gap = float(np.linalg.norm(np.asarray(a.at) - np.asarray(b.at)))
+        if gap > 1e-3:
+            props["warning"] = (f"{where.prefix()}: the ends are {gap * 1000:.0f} mm apart; "
+                                "the bushing acts at end a's point")
+        return props
+
+    def matrices(self, link: Any) -> ElementMatrices:
+        p = link.props
+        R6 = np.zeros((6, 6))
+        R6[:3, :3] = R6[3:, 3:] = p["frame"]
+        D = np.hstack([-R6, R6])
+        return ElementMatrices.from_components(
+            (link.a.at, link.a.at), D, p["stiffness"], p["damping"], p["loss_factor"],
+            COMPONENTS, ("m",) * 3 + ("rad",) * 3)
+
+
+register_link_type(Bushing())

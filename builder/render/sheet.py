@@ -1,0 +1,102 @@
+"""The review sheet: the lowest N modes in one image, a grid of titled panels.
+
+Every panel comes from one plotter and the same fixed camera per view (see
+:class:`~builder.render.modeshape.ModeRenderer`), so the panels compare
+directly. Each panel's view is chosen from the mode's motion (side for
+pitch, front for roll, iso otherwise) unless one view is given for all.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+from collections.abc import Sequence
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+from numpy.typing import NDArray
+
+from ..errors import InputError
+from .modeshape import (
+    DEFAULT_SCALE,
+    ModeRenderer,
+    _get,
+    choose_view,
+    encode_png,
+    mode_field,
+    mode_title,
+    write_bytes,
+)
+from .scene import PALETTE, Scene
+
+__all__ = ["sheet_layout", "render_sheet", "save_sheet", "mode_list"]
+
+GAP = 4  # pixels between panels
+
+
+def mode_list(modes: Any) -> list[Any]:
+    """The modes of a ModeSet (``.modes``), a mapping with ``"modes"``, or a sequence."""
+    if hasattr(modes, "modes"):
+        return list(modes.modes)
+    if isinstance(modes, dict) and "modes" in modes:
+        return list(modes["modes"])
+    return list(modes)
+
+
+def sheet_layout(count: int) -> tuple[int, int]:
+    """(rows, columns) of a sheet of ``count`` panels: at most 4 columns, near 4:3 overall."""
+    if count < 1:
+        raise InputError(f"--sheet: need at least one mode, got {count}")
+    cols = min(4, max(1, math.ceil(math.sqrt(count * 4.0 / 3.0))), count)
+    return math.ceil(count / cols), cols
+
+
+def _selected(modes: Any, count: int, skip_rigid: bool) -> list[Any]:
+    chosen = [m for m in mode_list(modes)
+              if not (skip_rigid and float(_get(m, "frequency_hz", 1.0) or 0.0) <= 0.0)]
+    if not chosen:
+        raise InputError("--sheet: the model has no modes to draw")
+    return chosen[:count]
+
+
+def render_sheet(scene: Scene, dofs: Sequence[str], modes: Any, count: int = 12, *,
+                 size: tuple[int, int] | None = None, view: str | None = None,
+                 scale: float = DEFAULT_SCALE, skip_rigid: bool = True) -> NDArray:
+    """Image (h x w x 3 uint8) of the lowest ``count`` modes in a grid.
+
+    ``size`` is the whole sheet in pixels (default: 480 x 360 per panel);
+    rigid-body (zero-frequency) modes are left out unless ``skip_rigid`` is
+    false.
+    """
+    chosen = _selected(modes, count, skip_rigid)
+    rows, cols = sheet_layout(len(chosen))
+    if size is None:
+        size = (cols * 480 + (cols - 1) * GAP, rows * 360 + (rows - 1) * GAP)
+    width, height = size
+    pw = (width - (cols - 1) * GAP) // cols
+    ph = (height - (rows - 1) * GAP) // rows
+    if pw < 32 or ph < 32:
+        raise InputError(f"--size: {width}x{height} is too small for {len(chosen)} panels")
+    from .scene import import_pyvista
+
+    pv = import_pyvista()
+    sheet = np.empty((height, width, 3), dtype=np.uint8)
+    sheet[:] = np.array(pv.Color(PALETTE["ground_edges"]).int_rgb, dtype=np.uint8)
+    with ModeRenderer(scene, (pw, ph), scale=scale, scalar_bar=len(chosen) == 1) as renderer:
+        for k, mode in enumerate(chosen):
+            field = mode_field(scene, dofs, _get(mode, "shape"))
+            panel_view = view or choose_view(scene, dofs, mode)
+            image = renderer.draw(field, mode_title(mode), panel_view)
+            r, c = divmod(k, cols)
+            y, x = r * (ph + GAP), c * (pw + GAP)
+            sheet[y:y + ph, x:x + pw] = image
+    return sheet
+
+
+def save_sheet(scene: Scene, dofs: Sequence[str], modes: Any, path: str | os.PathLike,
+               count: int = 12, **options: Any) -> Path:
+    """Write the review sheet as a PNG (options as :func:`render_sheet`)."""
+    if Path(path).suffix.lower() != ".png":
+        raise InputError(f"--out: the review sheet is a .png, got {Path(path).name!r}")
+    return write_bytes(path, encode_png(render_sheet(scene, dofs, modes, count, **options)))
