@@ -36,6 +36,11 @@ import scipy.sparse.linalg
 from .eigen import lowest_modes, natural_frequencies_hz
 from .errors import InputError
 
+#: A sparse LU pivot this small relative to the largest marks K_ii as singular
+#: (round-off pivots of a free rigid-body motion are about 1e-16 and below;
+#: a valid but stiff component stays far above).
+_PIVOT_RATIO = 1e-14
+
 
 @dataclass(frozen=True)
 class CraigBamptonResult:
@@ -109,6 +114,10 @@ def craig_bampton(K, M, boundary, n_modes: int) -> CraigBamptonResult:
         except RuntimeError as exc:
             raise InputError("the boundary DOFs do not hold the component: its interior "
                              "stiffness is singular") from exc
+        pivots = np.abs(lu.U.diagonal())
+        if pivots.min() <= _PIVOT_RATIO * pivots.max():
+            raise InputError("the boundary DOFs do not hold the component: its interior "
+                             "stiffness is singular (a free rigid-body motion)")
         psi = -lu.solve(np.asarray(k_ib.toarray()))
     if n_modes:
         lam, phi = lowest_modes(k_ii, m_ii, n_modes)
