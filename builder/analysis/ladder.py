@@ -1,0 +1,122 @@
+"""The model ladder: every depth against the full model.
+
+For each depth the reduced model's modes are expanded to the full DOFs
+(through the Guyan transformation) and matched to the full model's modes by
+MAC; the table gives each mode's frequency, the best-matching full mode, the
+MAC and the frequency error. A depth whose modes match with MAC near 1 and
+small errors is an adequate simpler model for those modes.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from ..assembly import Assembly, Depth
+from ..errors import Where
+from ..linear import LinearModel
+from ..reduce import reduce_to_depth
+from .modes import ModeSet, compute_modes, mac_matrix
+
+__all__ = ["Rung", "Ladder", "compute_ladder", "proposed_depths"]
+
+
+@dataclass(frozen=True, eq=False)
+class Rung:
+    """One depth: its modes and, per mode, the matching full mode, MAC and error."""
+
+    depth: str
+    dofs: tuple[str, ...]
+    modes: ModeSet
+    match: tuple[int, ...]          # full-model mode number matched (1-based), 0 if none
+    mac: tuple[float, ...]
+    error: tuple[float, ...]        # relative frequency error vs the matched full mode
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"depth": self.depth, "dof_count": len(self.dofs), "dofs": list(self.dofs),
+                "modes": [{"number": m.number, "frequency_hz": m.frequency_hz,
+                           "label": m.label, "full_mode": k, "mac": c,
+                           "frequency_error": e}
+                          for m, k, c, e in zip(self.modes.modes, self.match, self.mac,
+                                                self.error)]}
+
+
+@dataclass(frozen=True, eq=False)
+class Ladder:
+    full: ModeSet
+    rungs: tuple[Rung, ...]
+    proposed: bool
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"model": self.full.model.name, "proposed": self.proposed,
+                "full": {"dof_count": self.full.model.n,
+                         "frequencies_hz": self.full.frequencies_hz.tolist()},
+                "depths": [r.to_dict() for r in self.rungs]}
+
+    def table(self) -> str:
+        lines = [f"full model: {self.full.model.n} DOFs"
+                 + (" (depths proposed by lumpgraph: the file has none)" if self.proposed
+                    else "")]
+        for r in self.rungs:
+            lines.append("")
+            lines.append(f"depth {r.depth}: {len(r.dofs)} DOFs ({', '.join(r.dofs)})")
+            lines.append(f"  {'mode':>4} {'f (Hz)':>8} {'full':>5} {'f full':>8} {'MAC':>6} "
+                         f"{'error':>8}  label")
+            for m, k, c, e in zip(r.modes.modes, r.match, r.mac, r.error):
+                ff = self.full.modes[k - 1].frequency_hz if k else float("nan")
+                lines.append(f"  {m.number:>4} {m.frequency_hz:8.3f} {k:>5} {ff:8.3f} "
+                             f"{c:6.3f} {100 * e:7.2f}%  {m.label}")
+        return "\n".join(lines)
+
+
+def proposed_depths(assembly: Assembly) -> dict[str, Depth]:
+    """A ladder for a file without ``depths:``: main body bounce, bounce and pitch,
+    main body with everything on the road, then everything."""
+    if not assembly.bodies:
+        return {}
+    main = max(assembly.bodies.values(), key=lambda b: b.mass)
+    road_bodies = [lk.a.node if lk.b.kind == "road" else lk.b.node
+                   for lk in assembly.links.values()
+                   if (lk.a.kind == "road") != (lk.b.kind == "road")]
+    labels = assembly.dof_labels
+    out: dict[str, Depth] = {}
+
+    def add(name: str, keep: list[str]) -> None:
+        keep = [k for k in keep if k in labels]
+        if keep and len(keep) < len(labels) and all(set(keep) != set(d.keep)
+                                                     for d in out.values()):
+            out[name] = Depth(name, tuple(keep), (), Where(field=f"proposed {name}"))
+
+    add("main_bounce", [f"{main.name}.z"])
+    add("main_bounce_pitch", [f"{main.name}.z", f"{main.name}.ry"])
+    add("main_and_wheels", [f"{main.name}.{d}" for d in main.dofs]
+        + [f"{b}.{d}" for b in dict.fromkeys(road_bodies) if b in assembly.bodies
+           for d in assembly.bodies[b].dofs])
+    return out
+
+
+def compute_ladder(model: LinearModel, depths: dict[str, Depth] | None = None) -> Ladder:
+    """Modes of every depth (the file's, or proposed ones) matched to the full model."""
+    asm = model.assembly
+    proposed = not (depths or asm.depths)
+    depths = depths or asm.depths or proposed_depths(asm)
+    full = compute_modes(model)
+    full_shapes = full.shapes
+    rungs = []
+    for depth in depths.values():
+        reduced = reduce_to_depth(model, depth)
+        ms = compute_modes(reduced)
+        expanded = np.asarray(reduced.expansion @ ms.shapes) if reduced.parent is not None \
+            else ms.shapes
+        macs = mac_matrix(expanded, full_shapes) if len(ms) else np.zeros((0, 0))
+        match, mv, err = [], [], []
+        for i, m in enumerate(ms.modes):
+            k = int(np.argmax(macs[i])) if macs.shape[1] else -1
+            match.append(k + 1)
+            mv.append(float(macs[i, k]) if k >= 0 else 0.0)
+            ff = full.modes[k].frequency_hz if k >= 0 else float("nan")
+            err.append((m.frequency_hz - ff) / ff if ff > 0 else 0.0)
+        rungs.append(Rung(depth.name, reduced.dofs, ms, tuple(match), tuple(mv), tuple(err)))
+    return Ladder(full, tuple(rungs), proposed)

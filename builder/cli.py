@@ -1,0 +1,82 @@
+"""The ``lumpgraph`` command line: parse, call the library, print.
+
+Each command lives in ``builder/commands/NAME.py`` with ``HELP``,
+``configure(parser)`` and ``run(args) -> int``; it is imported only when
+used, so ``lumpgraph modes`` never pays for plotting or rendering imports.
+Errors the user can fix print one line on stderr and exit with status 2.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+from collections.abc import Sequence
+
+from .errors import LumpgraphError
+
+__all__ = ["main", "COMMANDS"]
+
+#: command name -> (module, one-line help)
+COMMANDS: dict[str, tuple[str, str]] = {
+    "check": ("builder.commands.check", "load a file and print the model checks"),
+    "modes": ("builder.commands.modes", "natural frequencies, damping and mode labels"),
+    "ladder": ("builder.commands.ladder", "compare every depth of the model with the full one"),
+    "frf": ("builder.commands.frf", "frequency response from road inputs to sensors"),
+    "ride": ("builder.commands.ride", "response to an ISO 8608 road at a speed, ISO 2631-1"),
+    "bump": ("builder.commands.bump", "transient response to a bump, pothole or step"),
+    "plugins": ("builder.commands.plugins", "list the installed plugins and their parameters"),
+    "plugin": ("builder.commands.plugin", "run a plugin's own analyses on a file"),
+    "render": ("builder.commands.render", "3D picture or animation of a mode, or a review sheet"),
+    "report": ("builder.commands.report", "self-contained HTML review report"),
+    "sweep": ("builder.commands.sweep", "sweeps, scatter and sensitivities of file parameters"),
+}
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message: str) -> None:  # one line, exit 2 (argparse's own code too)
+        self.exit(2, f"{self.prog}: error: {message}\n")
+
+
+def _build(argv: Sequence[str]) -> tuple[argparse.ArgumentParser, object]:
+    parser = _Parser(prog="lumpgraph", description="Lumped vehicle ride, comfort and NVH "
+                     "models from one assembly file.")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    wanted = next((a for a in argv if not a.startswith("-")), None)
+    module = None
+    for name, (mod, help_text) in COMMANDS.items():
+        p = sub.add_parser(name, help=help_text, description=help_text)
+        if name == wanted:
+            try:
+                module = importlib.import_module(mod)
+            except ModuleNotFoundError as exc:
+                if exc.name != mod:
+                    raise
+                parser.exit(2, f"lumpgraph: error: the command {name} is not available "
+                            "in this version\n")
+            module.configure(p)
+    return parser, module
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the ``lumpgraph`` command; returns the exit status."""
+    argv = list(sys.argv[1:] if argv is None else argv)
+    parser, module = _build(argv)
+    args = parser.parse_args(argv)
+    if module is None:
+        parser.print_help()
+        return 0 if not argv else 2
+    try:
+        return int(module.run(args) or 0)
+    except LumpgraphError as exc:
+        print(str(exc), file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("lumpgraph: interrupted", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return 0
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())
