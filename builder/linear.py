@@ -11,7 +11,8 @@ frequency domain only. Sensors read y = Sd q + Sv q' + Sa q'' + Dr r + Dv r'
 
 >>> from pathlib import Path
 >>> from builder.load import load_assembly
->>> model = assemble(load_assembly(Path(__file__).parent.parent / "assemblies" / "quarter_car.yaml"))
+>>> path = Path(__file__).parent.parent / "assemblies" / "quarter_car.yaml"
+>>> model = assemble(load_assembly(path))
 >>> model.dofs, model.inputs
 (('body.z', 'wheel.z'), ('road.contact',))
 """

@@ -26,8 +26,17 @@ from typing import Any
 import numpy as np
 
 from .assembly import (
-    GROUND, MOTIONS, Assembly, Body, Depth, End, Link, RoadPoint, Sensor,
-    inertia_is_physical, merge_rigid_links,
+    GROUND,
+    MOTIONS,
+    Assembly,
+    Body,
+    Depth,
+    End,
+    Link,
+    RoadPoint,
+    Sensor,
+    inertia_is_physical,
+    merge_rigid_links,
 )
 from .elements import LINK_TYPES, parse_axis
 from .errors import InputError, Where

@@ -219,7 +219,7 @@ def _pair(i: int, s: np.ndarray, psi: np.ndarray, shapes: np.ndarray, omega: np.
           ) -> tuple[float | None, float | None, bool, tuple[complex, ...]]:
     """Pick the state-space root(s) belonging to undamped mode i by MAC."""
     tol = 1e-9 * max(np.abs(s).max(), 1e-300)
-    cand = np.flatnonzero((s.imag >= -tol))
+    cand = np.flatnonzero(s.imag >= -tol)
     macs = mac_matrix(shapes, psi[:, cand])
     # one-to-one assignment of modes to candidate roots keeps close modes apart
     rows, cols = linear_sum_assignment(1.0 - macs)
