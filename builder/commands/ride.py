@@ -1,0 +1,108 @@
+"""``lumpgraph ride FILE --road CLASS --speed V [options]``: random road response.
+
+Prints every sensor's RMS over the band, the ISO 2631-1 weighted RMS and
+comfort reactions of acceleration sensors, suspension travel and the
+dynamic tyre load ratio; ``--json`` prints the same as one object,
+``--plot out.png`` draws the sensor PSDs.
+"""
+
+from __future__ import annotations
+
+import argparse
+
+from ..errors import InputError, Where
+from ..quantities import to_si
+from ._common import add_model_options, load_model, print_json
+
+HELP = "response to an ISO 8608 road at a speed, ISO 2631-1"
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    add_model_options(parser)
+    parser.add_argument("--road", required=True, metavar="CLASS",
+                        help="ISO 8608 road class A to H")
+    parser.add_argument("--speed", required=True, metavar="V",
+                        help='vehicle speed, e.g. "80 km/h" or 22.2 (m/s)')
+    parser.add_argument("--waviness", default="2", metavar="W",
+                        help="waviness w of the road PSD (default 2, the ISO 8608 value)")
+    parser.add_argument("--tracks", default="coherent", metavar="MODEL",
+                        help="left and right tracks: identical, independent or coherent "
+                        "(isotropic road; default)")
+    parser.add_argument("--band", default=None, metavar="FMIN:FMAX",
+                        help="frequency band in Hz (default 0.5:80, the ISO 2631-1 band)")
+    parser.add_argument("--points", default=None, metavar="N",
+                        help="number of log-spaced frequencies (default 2000)")
+    parser.add_argument("--sensor", action="append", default=None, metavar="NAME",
+                        help="report only this sensor (repeatable; default all)")
+    parser.add_argument("--plot", default=None, metavar="OUT.png",
+                        help="write a PNG of the sensor PSDs")
+    parser.add_argument("--json", action="store_true", help="print the result as JSON")
+    parser.add_argument("--psd", action="store_true",
+                        help="with --json, include the frequency grid and every PSD")
+
+
+def _band(text: str | None) -> tuple[float, float]:
+    from ..analysis.ride import DEFAULT_BAND
+
+    if text is None:
+        return DEFAULT_BAND
+    parts = text.split(":")
+    where = Where(field="--band")
+    if len(parts) != 2:
+        raise InputError(f'must be FMIN:FMAX in Hz, got "{text}"', where)
+    try:
+        fmin, fmax = (to_si(p.strip(), "frequency", where) for p in parts)
+    except InputError:
+        raise InputError(f'must be FMIN:FMAX in Hz, got "{text}"', where) from None
+    if not 0 < fmin < fmax:
+        raise InputError(f"needs 0 < FMIN < FMAX, got {fmin:g}:{fmax:g} Hz", where)
+    return fmin, fmax
+
+
+def _number(text: str, option: str, dimension: str) -> float:
+    try:
+        return to_si(text, dimension, Where(field=option))
+    except InputError as exc:
+        raise InputError(exc.reason, Where(field=option)) from None
+
+
+def _points(text: str | None) -> int:
+    from ..analysis.ride import DEFAULT_POINTS
+
+    if text is None:
+        return DEFAULT_POINTS
+    try:
+        value = int(text)
+    except ValueError:
+        raise InputError(f'must be a whole number, got "{text}"', Where(field="--points")) from None
+    if value < 2:
+        raise InputError(f"needs at least 2 points, got {value}", Where(field="--points"))
+    return value
+
+
+def run(args: argparse.Namespace) -> int:
+    from ..analysis import road
+    from ..analysis.ride import ride_response
+    from ..io import output_path
+
+    road.class_value(args.road)
+    speed = road.check_speed(_number(args.speed, "--speed", "speed"))
+    waviness = _number(args.waviness, "--waviness", "dimensionless")
+    if args.tracks not in road.TRACK_MODELS:
+        raise InputError(f'unknown track model "{args.tracks}": choose identical, independent '
+                         "or coherent", Where(field="--tracks"))
+    band, points = _band(args.band), _points(args.points)
+    if args.plot:
+        output_path(args.plot, (".png",), "--plot")
+    assembly, model = load_model(args)
+    result = ride_response(model, args.road, speed, waviness=waviness, tracks=args.tracks,
+                           band=band, points=points, assembly=assembly, sensors=args.sensor)
+    if args.plot:
+        result.plot(args.plot)
+    if args.json:
+        print_json(result.to_dict(psd=args.psd))
+    else:
+        print(result.table())
+        if args.plot:
+            print(f"PSD plot written to {args.plot}")
+    return 0
