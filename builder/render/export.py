@@ -37,14 +37,18 @@ from .sheet import mode_list
 __all__ = ["export_vtk", "scene_blocks"]
 
 
+def _number(value: Any) -> float:
+    return float("nan") if value is None else float(value)
+
+
 def scene_blocks(scene: Scene, dofs: Sequence[str], modes: Any):
     """The scene as a ``pyvista.MultiBlock`` with each mode's point data (see module doc)."""
     pv = import_pyvista()
     chosen = mode_list(modes)
     fields = [mode_field(scene, dofs, _get(m, "shape")) for m in chosen]
     numbers = np.array([int(_get(m, "number", k + 1)) for k, m in enumerate(chosen)])
-    freqs = np.array([float(_get(m, "frequency_hz", np.nan)) for m in chosen])
-    zetas = np.array([float(_get(m, "damping_ratio", np.nan)) for m in chosen])
+    freqs = np.array([_number(_get(m, "frequency_hz")) for m in chosen])
+    zetas = np.array([_number(_get(m, "damping_ratio")) for m in chosen])
     labels = [str(_get(m, "label", "")) for m in chosen]
     blocks = pv.MultiBlock()
     for k, part in enumerate(scene.parts):

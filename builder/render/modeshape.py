@@ -4,8 +4,8 @@ A mode's shape (over the model's DOF labels) moves every drawn point by
 :func:`builder.render.scene.mode_displacements`. The drawing scale makes the
 largest point amplitude ``scale`` times the vehicle's size (its largest
 extent), so modes of any normalisation look alike. A complex shape is first
-turned so its largest DOF entry is real and positive; frame ``k`` of a cycle
-of ``N`` shows ``Re(shape * exp(2 pi i k / N))``. Colour is the point
+turned so its largest DOF entry is real and positive (a real one is used as
+it is); frame ``k`` of a cycle of ``N`` shows ``Re(shape * exp(2 pi i k / N))``. Colour is the point
 amplitude over the largest amplitude (0 to 1), the same in every frame; the
 undeformed scene is ghosted as outlines.
 
@@ -76,8 +76,13 @@ def _write_atomic(path: Path, data: bytes | str) -> None:
 
 
 def phase_normalised(shape: ArrayLike) -> NDArray:
-    """The shape turned so its largest-magnitude entry is real and positive (complex kept)."""
+    """A complex shape turned so its largest-magnitude entry is real and positive.
+
+    A real shape is returned unchanged (as floats), sign included.
+    """
     shape = np.asarray(shape)
+    if not np.iscomplexobj(shape):
+        return shape.astype(float)
     if shape.size == 0:
         return shape.astype(complex)
     k = int(np.argmax(np.abs(shape)))
@@ -118,7 +123,10 @@ def _get(mode: Any, name: str, default: Any = None) -> Any:
 
 
 def mode_title(mode: Any) -> str:
-    """``Mode 3 | 1.23 Hz | damping 21.0 % | body pitch`` (plain ASCII for the fonts)."""
+    """Two lines: ``Mode 3   1.23 Hz   damping 21.0 %`` and the label (plain ASCII).
+
+    (A ``|`` or ``$`` would send the text through VTK's math-text renderer.)
+    """
     parts = [f"Mode {_get(mode, 'number', '?')}"]
     freq = _get(mode, "frequency_hz")
     if freq is not None:
@@ -126,10 +134,8 @@ def mode_title(mode: Any) -> str:
     zeta = _get(mode, "damping_ratio")
     if zeta is not None and np.isfinite(float(zeta)):
         parts.append(f"damping {100 * float(zeta):.1f} %")
-    label = _get(mode, "label")
-    if label:
-        parts.append(str(label))
-    return " | ".join(parts)
+    label = str(_get(mode, "label") or "").replace("|", "/").replace("$", "")
+    return "   ".join(parts) + (f"\n{label}" if label else "")
 
 
 def choose_view(scene: Scene, dofs: Sequence[str], mode: Any) -> str:
@@ -208,6 +214,7 @@ class ModeRenderer:
         self._meshes: list[Any] = []
         self._base: list[NDArray] = []
         font = font_size or max(7, int(round(self.size[1] / 48)))
+        self._font = font
         lut = _colour_table(pv)
         bar = {"title": "relative amplitude", "n_labels": 3, "fmt": "%.1f",
                "vertical": True, "position_x": 0.90, "position_y": 0.18, "width": 0.035,
@@ -221,7 +228,7 @@ class ModeRenderer:
                 self.plotter.add_mesh(
                     mesh, scalars="amplitude", cmap=lut, clim=(0.0, 1.0), smooth_shading=False,
                     show_scalar_bar=scalar_bar and not bar_done, scalar_bar_args=bar,
-                    specular=0.15, diffuse=0.85, ambient=0.18)
+                    specular=0.15, diffuse=0.85, ambient=0.18, opacity=part.opacity)
                 bar_done = True
                 if ghost and part.ghost is not None:
                     self.plotter.add_mesh(part.ghost, color=PALETTE["ghost"], line_width=1.2,
@@ -234,8 +241,11 @@ class ModeRenderer:
                 self.plotter.add_mesh(mesh, color=part.color, ambient=0.2, specular=0.1)
             self._meshes.append(mesh)
             self._base.append(np.array(part.mesh.points, dtype=float))
-        self._title = self.plotter.add_text("", position="upper_edge", font_size=font,
-                                            color=PALETTE["text"])
+        self._title = self.plotter.add_text("", position=(0.015 * self.size[0],
+                                                      self.size[1] - 0.6 * font),
+                                            font_size=font, color=PALETTE["text"])
+        self._title.GetTextProperty().SetVerticalJustificationToTop()
+        self._title.GetTextProperty().SetLineSpacing(1.15)
         self._cameras = {view: self._camera(view) for view in VIEWS}
         self._view: str | None = None
         self._field: ModeField | None = None
@@ -247,14 +257,19 @@ class ModeRenderer:
         up = up - direction * (up @ direction)
         up /= np.linalg.norm(up)
         right = np.cross(direction, up) * -1.0
-        pts = np.vstack([p.mesh.points for p in self.scene.parts if p.kind not in ("axes",)])
+        pts = np.vstack([p.mesh.points for p in self.scene.parts
+                         if p.kind not in ("axes", "ground")])
         center = 0.5 * (pts.min(axis=0) + pts.max(axis=0))
         rel = pts - center
         half_w = np.abs(rel @ right).max()
         half_h = np.abs(rel @ up).max()
         aspect = self.size[0] / self.size[1]
         margin = self.scale * self.scene.size
-        parallel = 1.12 * max(half_h + margin, (half_w + margin) / aspect)
+        parallel = 1.08 * max(half_h + margin, (half_w + margin) / aspect)
+        # Leave the top band to the title: widen and move the scene down.
+        band = min(0.3, 2.8 * self._font / self.size[1])
+        parallel /= 1.0 - band
+        center = center + up * parallel * band
         position = center + direction * 4.0 * self.scene.size
         return position, center, up, float(parallel)
 
@@ -283,8 +298,7 @@ class ModeRenderer:
                 data = self._meshes[k].point_data["amplitude"]
                 data[:] = 0.0 if amp is None else amp
                 self._meshes[k].point_data.Modified()
-        self._title.SetText(7, title) if hasattr(self._title, "SetText") else \
-            self._title.SetInput(title)
+        self._title.SetInput(title)
 
     def set_phase(self, phase: float) -> None:
         """Move the points to phase ``phase`` (rad) of the cycle: ``Re(u exp(i phase))``."""

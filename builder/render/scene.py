@@ -104,7 +104,7 @@ class Part:
     color: str
     terms: list[Term] = field(default_factory=list)
     ghost: Any = None    # outline drawn undeformed, or None
-    line: bool = False   # drawn as lines (no surface)
+    opacity: float = 1.0  # below 1 for a solid that encloses other parts
 
     @property
     def moving(self) -> bool:
@@ -268,11 +268,28 @@ def build_scene(assembly, solid: str = "box") -> Scene:
     parts.extend(_axes_parts(pv, np.array([lo[0] - 0.5 * margin, lo[1] - 0.5 * margin,
                                            ground_z]), 0.12 * size))
 
+    _see_through(parts, bodies)
     masses = np.array([float(b.mass) for b in bodies.values()])
     inertias = np.array([np.asarray(b.inertia, float).reshape(3, 3) for b in bodies.values()])
     return Scene(str(getattr(assembly, "name", "")), names, cgs, masses,
                  inertias.reshape(-1, 3, 3), parts, size, np.array([lo[0], hi[0], lo[1], hi[1],
                                                                    lo[2], hi[2]]))
+
+
+def _see_through(parts: list[Part], bodies: Mapping) -> None:
+    """Make translucent every body solid that hides another body's cg or a link point."""
+    solids = [p for p in parts if p.kind == "body"]
+    marks = {p.name: np.vstack([_vec(bodies[p.name[5:]].cg)[None, :]]) for p in solids}
+    others = [p for p in parts if p.kind != "body"]
+    for solid in solids:
+        lo, hi = solid.mesh.points.min(axis=0), solid.mesh.points.max(axis=0)
+        pts = [m for name, m in marks.items() if name != solid.name]
+        pts += [o.mesh.points for o in others]
+        if not pts:
+            continue
+        inside = np.all((np.vstack(pts) > lo) & (np.vstack(pts) < hi), axis=1)
+        if inside.any():
+            solid.opacity = 0.4
 
 
 def _link_part(pv, name: str, link, bodies: Mapping, index: Mapping, cgs: NDArray,
