@@ -1,0 +1,871 @@
+"""Parameter sweeps: many variants of one model, solved in batches, anywhere.
+
+A sweep is a :class:`~builder.analysis.sampling.Design` (one row of
+parameter values per variant) and a *problem* that turns a chunk of rows into
+results. Two kinds of problem:
+
+- :class:`ModesProblem`: natural frequencies of a *family* of matrices,
+  with modes tracked by MAC so that each result column follows one mode
+  through crossings. The fast family, :class:`AffineFamily`, holds
+  K(p) = K0 + sum_i (p_i - p0_i) dK_i and the same for M, found by probing
+  the model (it is exact for rates and masses, the usual sweep parameters,
+  and is checked at a random point before use). Variants then never touch
+  the file again: a chunk is a stack of dense (k, n, n) matrices,
+  Cholesky-whitened by M and solved by one batched ``numpy.linalg.eigh``.
+  When a parameter enters non-linearly (a position, a product of two swept
+  parameters), :class:`CallbackFamily` rebuilds each variant instead.
+- :class:`FunctionProblem`: any scalar results of a picklable callable,
+  variant by variant (a ride RMS, a plugin's figure).
+
+Chunks are fixed slices of the design (``chunk_size`` rows), solved in-process,
+on local processes (``workers=N``) or on a Dask cluster (``cluster=ADDRESS``
+or a ``distributed.Client``). Each variant's result depends only on its own
+row, so all three give bit-identical tables. Results are written to the CSV
+a chunk at a time, in design order, flushed and synced, so an interrupted
+sweep keeps every finished row and ``resume=True`` carries on from there.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+import os
+import sys
+import time
+from collections.abc import Callable, Iterator, Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any, Protocol, TextIO
+
+import numpy as np
+
+from ..errors import InputError, Where
+from .sampling import REF_NOMINAL, REF_NONE, Design
+from .sensitivity import FrequencySensitivities, frequency_sensitivities
+from .tracking import batch_match
+
+__all__ = [
+    "batched_modes", "AffineFamily", "CallbackFamily", "affine_family", "ModesProblem",
+    "FunctionProblem", "SweepResult", "run_sweep", "Progress", "TargetResult",
+    "find_parameters", "family_sensitivities", "DEFAULT_CHUNK",
+]
+
+#: variants per chunk; the same for every executor, so that results agree bit for bit
+DEFAULT_CHUNK = 500
+
+TWO_PI = 2.0 * math.pi
+
+
+# ------------------------------------------------------------ eigensolve --
+
+def batched_modes(K: np.ndarray, M: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Undamped modes of a stack of models: K (k, n, n) N/m; M (n, n) or (k, n, n) kg.
+
+    Whitening by the Cholesky factor L of M (M = L L^T) turns K phi = lambda M phi
+    into the standard symmetric problem (L^-1 K L^-T) v = lambda v, solved for the
+    whole stack by one ``numpy.linalg.eigh``. Returns frequencies (k, n) in Hz,
+    ascending (negative round-off clipped to 0), and mass-normalised shapes
+    (k, n, n), modes as columns.
+    """
+    K = np.asarray(K, dtype=float)
+    M = np.asarray(M, dtype=float)
+    try:
+        L = np.linalg.cholesky(M)
+    except np.linalg.LinAlgError:
+        raise InputError("the mass matrix is not positive definite (a DOF without mass): "
+                         "sweep a depth that condenses it", Where(field="--vary")) from None
+    n = K.shape[-1]
+    Linv = np.linalg.solve(L, np.broadcast_to(np.eye(n), L.shape))
+    A = Linv @ K @ np.swapaxes(Linv, -1, -2)
+    A = 0.5 * (A + np.swapaxes(A, -1, -2))
+    lam, V = np.linalg.eigh(A)
+    shapes = np.swapaxes(Linv, -1, -2) @ V
+    freqs = np.sqrt(np.clip(lam, 0.0, None)) / TWO_PI
+    return freqs, shapes
+
+
+# -------------------------------------------------------------- families --
+
+class MatrixFamily(Protocol):
+    """Anything that gives K and M (dense, SI) for rows of parameter values."""
+
+    names: tuple[str, ...]
+
+    def matrices(self, values: np.ndarray) -> tuple[np.ndarray, np.ndarray]: ...
+
+
+@dataclass(frozen=True, eq=False)
+class AffineFamily:
+    """K(p) = K0 + sum_i (p_i - p0_i) dK[i], M likewise (dense, SI).
+
+    ``dK[i]`` is in N/m per SI unit of parameter i; ``dM`` None when no
+    parameter changes the mass. ``reduction`` optionally condenses each
+    variant: (T_tie (n, nt), master indices into the tied DOFs) for a
+    Guyan depth; ``dofs`` are the labels of the result.
+    """
+
+    names: tuple[str, ...]
+    nominal: np.ndarray
+    K0: np.ndarray
+    dK: np.ndarray
+    M0: np.ndarray
+    dM: np.ndarray | None = None
+    dofs: tuple[str, ...] = ()
+    reduction: tuple[np.ndarray, np.ndarray] | None = None
+
+    def full_matrices(self, values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Unreduced K (k, n, n) and M ((n, n) when constant, else (k, n, n))."""
+        d = np.atleast_2d(np.asarray(values, dtype=float)) - self.nominal
+        K = self.K0 + np.tensordot(d, self.dK, axes=1)
+        M = self.M0 if self.dM is None else self.M0 + np.tensordot(d, self.dM, axes=1)
+        return K, M
+
+    def matrices(self, values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """K and M of each row, reduced to the family's depth when it has one."""
+        K, M = self.full_matrices(values)
+        if self.reduction is None:
+            return K, M
+        return batched_guyan(K, M, *self.reduction)
+
+
+def batched_guyan(K: np.ndarray, M: np.ndarray, T_tie: np.ndarray, masters: np.ndarray
+                  ) -> tuple[np.ndarray, np.ndarray]:
+    """Tie then Guyan-condense a stack: q = T_tie q_t; q_t slaves = -Kss^-1 Ksm q_m.
+
+    K (k, n, n), M (n, n) or (k, n, n); returns reduced K (k, m, m), M (k, m, m).
+    """
+    Kt = T_tie.T @ K @ T_tie
+    Mt = T_tie.T @ M @ T_tie
+    nt = Kt.shape[-1]
+    slaves = np.setdiff1d(np.arange(nt), masters)
+    if slaves.size == 0:
+        order = np.asarray(masters)
+        return (Kt[..., order[:, None], order],
+                np.broadcast_to(Mt, Kt.shape)[..., order[:, None], order])
+    Kss = Kt[..., slaves[:, None], slaves]
+    Ksm = Kt[..., slaves[:, None], masters]
+    X = -np.linalg.solve(Kss, Ksm)                       # (k, ns, nm)
+    k = Kt.shape[0]
+    T = np.zeros((k, nt, len(masters)))
+    T[:, masters, np.arange(len(masters))] = 1.0
+    T[:, slaves, :] = X
+    Tt = np.swapaxes(T, -1, -2)
+    return Tt @ Kt @ T, Tt @ Mt @ T
+
+
+@dataclass(frozen=True, eq=False)
+class CallbackFamily:
+    """Rebuilds each variant: ``build(dict name -> SI value) -> (K, M)`` dense.
+
+    ``build`` must be picklable (a module-level function or an instance of a
+    module-level class) to run on other processes.
+    """
+
+    names: tuple[str, ...]
+    build: Callable[[dict[str, float]], tuple[np.ndarray, np.ndarray]]
+
+    def matrices(self, values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        Ks, Ms = [], []
+        for row in np.atleast_2d(values):
+            K, M = self.build(dict(zip(self.names, map(float, row), strict=True)))
+            Ks.append(np.asarray(K, dtype=float))
+            Ms.append(np.asarray(M, dtype=float))
+        return np.stack(Ks), np.stack(Ms)
+
+
+def affine_family(build: Callable[[dict[str, float]], tuple[np.ndarray, np.ndarray]],
+                  names: Sequence[str], nominal: Sequence[float], spans: Sequence[float],
+                  dofs: Sequence[str] = (), rtol: float = 1e-9, seed: int = 12345
+                  ) -> AffineFamily | None:
+    """Probe ``build`` for an affine dependence of K and M on the parameters.
+
+    One build at the nominal point, one per parameter stepped by its span
+    (SI), then a check at a point with every parameter moved at once (steps
+    drawn from a fixed seed). Returns None when the check fails (the
+    parameters enter non-linearly or interact), so the caller rebuilds each
+    variant instead.
+    """
+    names = tuple(names)
+    p0 = np.asarray(nominal, dtype=float)
+    spans = np.asarray(spans, dtype=float)
+    spans = np.where(spans != 0, spans, np.where(p0 != 0, 0.1 * np.abs(p0), 1.0))
+    K0, M0 = (np.asarray(a, dtype=float) for a in build(dict(zip(names, p0, strict=True))))
+    dK = np.zeros((len(names), *K0.shape))
+    dM = np.zeros((len(names), *M0.shape))
+    for i in range(len(names)):
+        p = p0.copy()
+        p[i] += spans[i]
+        K1, M1 = build(dict(zip(names, p, strict=True)))
+        if np.shape(K1) != K0.shape:
+            return None
+        dK[i] = (np.asarray(K1) - K0) / spans[i]
+        dM[i] = (np.asarray(M1) - M0) / spans[i]
+    mass_varies = bool(np.any(dM != 0))
+    fam = AffineFamily(names, p0, K0, dK, M0, dM if mass_varies else None, tuple(dofs))
+    rng = np.random.default_rng(seed)
+    p = p0 + spans * rng.uniform(-0.7, 0.7, len(names))
+    Kc, Mc = build(dict(zip(names, p, strict=True)))
+    Kf, Mf = fam.full_matrices(p[None, :])
+    if np.shape(Kc) != K0.shape:
+        return None
+    for got, want in ((Kf[0], Kc), (np.broadcast_to(Mf, Kf.shape)[0], Mc)):
+        want = np.asarray(want, dtype=float)
+        scale = max(float(np.max(np.abs(want))), 1e-300)
+        if float(np.max(np.abs(got - want))) > rtol * scale:
+            return None
+    return fam
+
+
+def family_sensitivities(family: AffineFamily, values: Sequence[float] | None = None
+                         ) -> FrequencySensitivities:
+    """df/dp of every mode of an affine family at ``values`` (default nominal).
+
+    With a depth, dK and dM of the reduced model are taken by central
+    differences of the batched reduction (the reduction is not affine).
+    """
+    p = family.nominal if values is None else np.asarray(values, dtype=float)
+    if family.reduction is None:
+        K, M = family.matrices(p[None, :])
+        Mv = np.broadcast_to(M, K.shape)[0]
+        dMs = list(family.dM) if family.dM is not None else None
+        return frequency_sensitivities(K[0], Mv, list(family.dK), dMs, family.names, p)
+    dKs, dMs = [], []
+    K, M = family.matrices(p[None, :])
+    for i in range(len(p)):
+        h = 1e-6 * max(abs(p[i]), 1e-3)
+        rows = np.stack([p, p])
+        rows[0, i] += h
+        rows[1, i] -= h
+        Kp, Mp = family.matrices(rows)
+        dKs.append((Kp[0] - Kp[1]) / (2 * h))
+        dMs.append((Mp[0] - Mp[1]) / (2 * h))
+    return frequency_sensitivities(K[0], M[0], dKs, dMs, family.names, p)
+
+
+# -------------------------------------------------------------- problems --
+
+class SweepProblem(Protocol):
+    """What a sweep solves: result columns for chunks of parameter rows."""
+
+    names: tuple[str, ...]
+
+    def columns(self) -> tuple[str, ...]: ...
+
+    def evaluate(self, values: np.ndarray, ref_pos: np.ndarray, k: int) -> dict[str, Any]: ...
+
+
+@dataclass(frozen=True, eq=False)
+class ModesProblem:
+    """Natural frequencies (Hz) of the first ``n_modes`` tracked modes.
+
+    Result columns ``mode1_hz`` ... in tracked order: curve j is the mode that
+    was j-th by frequency at the start of the sweep (grids) or in the nominal
+    design (random designs).
+    """
+
+    family: Any
+    n_modes: int | None = None
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        return tuple(self.family.names)
+
+    def size(self) -> int:
+        """Number of modes of the model."""
+        K, _ = self.family.matrices(np.atleast_2d(self.family_nominal()))
+        return int(K.shape[-1])
+
+    def family_nominal(self) -> np.ndarray:
+        return np.asarray(getattr(self.family, "nominal", np.zeros(len(self.names))))
+
+    def columns(self, n: int | None = None) -> tuple[str, ...]:
+        m = self.n_modes or n or self.size()
+        return tuple(f"mode{j + 1}_hz" for j in range(m))
+
+    def evaluate(self, values: np.ndarray, ref_pos: np.ndarray, k: int) -> dict[str, Any]:
+        """Solve rows ``values`` (k + extra, nparams); rows k.. are references only.
+
+        Returns ``sorted_hz`` (k, n) and ``match`` (k, n): for each mode of the
+        reference (in its frequency order) the position of the same mode in
+        this variant's frequency order (identity where ``ref_pos`` < 0).
+        """
+        K, M = self.family.matrices(values)
+        freqs, shapes = batched_modes(K, M)
+        n = freqs.shape[1]
+        match = np.tile(np.arange(n), (k, 1))
+        has = np.nonzero(ref_pos >= 0)[0]
+        if has.size:
+            Mk = M if M.ndim == 2 else M[has]
+            match[has] = batch_match(shapes[ref_pos[has]], shapes[has], Mk)
+        return {"sorted_hz": freqs[:k], "match": match}
+
+
+@dataclass(frozen=True, eq=False)
+class FunctionProblem:
+    """Scalar results ``func(dict name -> SI value) -> {column: value}`` per variant."""
+
+    names: tuple[str, ...]
+    func: Callable[[dict[str, float]], Mapping[str, float]]
+    result_columns: tuple[str, ...]
+
+    def columns(self, n: int | None = None) -> tuple[str, ...]:
+        return self.result_columns
+
+    def evaluate(self, values: np.ndarray, ref_pos: np.ndarray, k: int) -> dict[str, Any]:
+        out = np.full((k, len(self.result_columns)), np.nan)
+        for i in range(k):
+            res = self.func(dict(zip(self.names, map(float, values[i]), strict=True)))
+            out[i] = [float(res[c]) for c in self.result_columns]
+        return {"values": out}
+
+
+# ---------------------------------------------------------------- result --
+
+@dataclass(frozen=True, eq=False)
+class SweepResult:
+    """One row per variant: parameter values (SI) and results.
+
+    ``ranks`` (modes sweeps) holds, for each tracked mode, its 0-based place
+    in the variant's frequency order, so ``sorted`` frequencies can be had back.
+    """
+
+    names: tuple[str, ...]
+    values: np.ndarray
+    columns: tuple[str, ...]
+    results: np.ndarray
+    kind: str = ""
+    ranks: np.ndarray | None = None
+    units: tuple[str, ...] = field(default=())
+
+    def __len__(self) -> int:
+        return int(self.values.shape[0])
+
+    def column(self, name: str) -> np.ndarray:
+        """A parameter's or a result's column by name."""
+        if name in self.names:
+            return self.values[:, self.names.index(name)]
+        if name in self.columns:
+            return self.results[:, self.columns.index(name)]
+        raise KeyError(name)
+
+    def sorted_frequencies(self) -> np.ndarray:
+        """Frequencies (Hz) in ascending order per variant (modes sweeps)."""
+        return np.sort(self.results, axis=1)
+
+    def to_records(self) -> list[dict[str, float]]:
+        """A list of dicts, one per variant, ready for ``pandas.DataFrame``."""
+        out = []
+        for i in range(len(self)):
+            rec: dict[str, float] = {"variant": i}
+            rec.update({n: float(v) for n, v in zip(self.names, self.values[i], strict=True)})
+            rec.update({c: float(v) for c, v in zip(self.columns, self.results[i], strict=True)})
+            out.append(rec)
+        return out
+
+    def to_pandas(self) -> Any:
+        """A pandas DataFrame indexed by variant (pandas must be installed)."""
+        try:
+            import pandas as pd
+        except ImportError:
+            raise ImportError("to_pandas() needs pandas; use to_records() instead") from None
+        return pd.DataFrame.from_records(self.to_records(), index="variant")
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON-ready form."""
+        return {"kind": self.kind, "parameters": list(self.names), "results": list(self.columns),
+                "rows": [[*map(float, self.values[i]), *map(float, self.results[i])]
+                         for i in range(len(self))]}
+
+    def plot(self, path: str | os.PathLike[str], parameter: str | None = None) -> str:
+        """Tracked results against one parameter (PNG at ``path``, matplotlib Agg).
+
+        In a grid over several parameters, one line per combination of the
+        others is drawn faintly; with scatter, a histogram per column instead
+        (:meth:`histogram`).
+        """
+        if "scatter" in self.kind or "lhs" in self.kind:
+            return self.histogram(path)
+        import matplotlib
+        matplotlib.use("Agg")
+        import matplotlib.pyplot as plt
+        p = parameter or self.names[-1]
+        x = self.column(p)
+        others = [j for j, n in enumerate(self.names) if n != p]
+        keys = [tuple(row) for row in self.values[:, others]] if others else [()] * len(self)
+        groups: dict[tuple, list[int]] = {}
+        for i, key in enumerate(keys):
+            groups.setdefault(key, []).append(i)
+        fig, ax = plt.subplots(figsize=(7, 4.5), dpi=110)
+        colours = plt.rcParams["axes.prop_cycle"].by_key()["color"]
+        for g, rows in enumerate(groups.values()):
+            rows = sorted(rows, key=lambda r: x[r])
+            for c, col in enumerate(self.columns):
+                ax.plot(x[rows], self.results[rows, c], color=colours[c % len(colours)],
+                        alpha=1.0 if len(groups) == 1 else 0.35, lw=1.6,
+                        label=col if g == 0 else None)
+        unit = self.units[self.names.index(p)] if self.units else ""
+        ax.set_xlabel(f"{p} ({unit})" if unit else f"{p} (SI)")
+        ax.set_ylabel("frequency (Hz)" if self.columns[0].endswith("_hz") else "result")
+        ax.set_title("tracked modes (MAC)" if self.ranks is not None else "sweep")
+        ax.grid(True, alpha=0.3)
+        ax.legend(fontsize=8, ncol=2)
+        fig.tight_layout()
+        fig.savefig(path)
+        plt.close(fig)
+        return str(path)
+
+    def histogram(self, path: str | os.PathLike[str], columns: Sequence[str] | None = None,
+                  bins: int = 40) -> str:
+        """Histograms of result columns (PNG, matplotlib Agg)."""
+        import matplotlib
+        matplotlib.use("Agg")
+        import matplotlib.pyplot as plt
+        cols = list(columns or self.columns)
+        ncol = min(3, len(cols))
+        nrow = math.ceil(len(cols) / ncol)
+        fig, axes = plt.subplots(nrow, ncol, figsize=(3.3 * ncol, 2.6 * nrow), dpi=110,
+                                 squeeze=False)
+        for ax in axes.flat[len(cols):]:
+            ax.set_visible(False)
+        for ax, c in zip(axes.flat, cols, strict=False):
+            v = self.column(c)
+            v = v[np.isfinite(v)]
+            flat = v.size == 0 or np.ptp(v) <= 1e-12 * max(float(np.max(np.abs(v))), 1e-300)
+            ax.hist(v, bins=1 if flat else bins, color="#4477aa")
+            ax.set_title(f"{c}: mean {np.mean(v):.4g}, sd {np.std(v, ddof=1):.3g}"
+                         if len(v) > 1 else c, fontsize=8)
+            ax.tick_params(labelsize=7)
+        fig.tight_layout()
+        fig.savefig(path)
+        plt.close(fig)
+        return str(path)
+
+
+# -------------------------------------------------------------- progress --
+
+class Progress:
+    """A one-line progress bar on a stream (stderr), redrawn at most 5 times a second."""
+
+    def __init__(self, total: int, label: str = "sweep", stream: TextIO | None = None,
+                 enabled: bool = True, width: int = 30):
+        self.total, self.label, self.width = max(int(total), 1), label, width
+        self.stream = stream if stream is not None else sys.stderr
+        self.enabled = enabled
+        self.done = 0
+        self.start = time.monotonic()
+        self._last = 0.0
+
+    def update(self, n: int) -> None:
+        """Count ``n`` more variants done."""
+        self.done += n
+        now = time.monotonic()
+        if self.enabled and (now - self._last > 0.2 or self.done >= self.total):
+            self._last = now
+            frac = min(self.done / self.total, 1.0)
+            bar = "#" * int(frac * self.width)
+            rate = self.done / max(now - self.start, 1e-9)
+            left = (self.total - self.done) / rate if rate > 0 else 0.0
+            self.stream.write(f"\r{self.label} [{bar:<{self.width}}] {self.done}/{self.total} "
+                              f"{100 * frac:3.0f}%  {rate:,.0f}/s  {left:5.1f} s left ")
+            self.stream.flush()
+
+    def close(self) -> None:
+        """End the line."""
+        if self.enabled:
+            self.stream.write("\n")
+            self.stream.flush()
+
+
+# ------------------------------------------------------------- executors --
+
+_WORKER_PROBLEM: Any = None
+
+
+def _set_problem(problem: Any) -> None:
+    global _WORKER_PROBLEM
+    _WORKER_PROBLEM = problem
+
+
+def _evaluate_in_worker(values: np.ndarray, ref_pos: np.ndarray, k: int) -> dict[str, Any]:
+    return _WORKER_PROBLEM.evaluate(values, ref_pos, k)
+
+
+def _evaluate(problem: Any, values: np.ndarray, ref_pos: np.ndarray, k: int) -> dict[str, Any]:
+    return problem.evaluate(values, ref_pos, k)
+
+
+@dataclass(frozen=True)
+class _Chunk:
+    start: int
+    stop: int
+    values: np.ndarray
+    ref_pos: np.ndarray
+
+
+def _chunks(design: Design, start: int, size: int) -> list[_Chunk]:
+    out = []
+    for a in range(start, len(design), size):
+        b = min(a + size, len(design))
+        ref = design.reference[a:b]
+        extra: list[np.ndarray] = []
+        pos = np.full(b - a, -1, dtype=int)
+        slot: dict[int, int] = {}
+        for i, r in enumerate(ref):
+            if r == REF_NONE:
+                continue
+            if a <= r < b:
+                pos[i] = r - a
+                continue
+            if r not in slot:
+                slot[int(r)] = (b - a) + len(extra)
+                extra.append(design.nominal if r == REF_NOMINAL else design.values[r])
+            pos[i] = slot[int(r)]
+        vals = design.values[a:b] if not extra else np.vstack([design.values[a:b], *extra])
+        out.append(_Chunk(a, b, np.ascontiguousarray(vals), pos))
+    return out
+
+
+def _run_inprocess(problem: Any, chunks: list[_Chunk]) -> Iterator[dict[str, Any]]:
+    for c in chunks:
+        yield problem.evaluate(c.values, c.ref_pos, c.stop - c.start)
+
+
+def _run_processes(problem: Any, chunks: list[_Chunk], workers: int) -> Iterator[dict[str, Any]]:
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+    ctx = multiprocessing.get_context("spawn")
+    with ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_set_problem,
+                             initargs=(problem,)) as ex:
+        futures = [ex.submit(_evaluate_in_worker, c.values, c.ref_pos, c.stop - c.start)
+                   for c in chunks]
+        try:
+            for f in futures:
+                yield f.result()
+        finally:
+            for f in futures:
+                f.cancel()
+
+
+def _run_dask(problem: Any, chunks: list[_Chunk], cluster: Any) -> Iterator[dict[str, Any]]:
+    try:
+        from distributed import Client
+    except ImportError:
+        raise InputError("--cluster needs the optional dependency dask[distributed] "
+                         "(pip install 'lumpgraph[cluster]')", Where(field="--cluster")) from None
+    own = isinstance(cluster, str)
+    if own:
+        try:
+            client = Client(cluster, timeout=10)
+        except (OSError, TimeoutError) as exc:
+            raise InputError(f"cannot reach the Dask scheduler at {cluster} ({exc})",
+                             Where(field="--cluster")) from None
+    else:
+        client = cluster
+    try:
+        [pf] = client.scatter([problem], broadcast=True)
+        futures = [client.submit(_evaluate, pf, c.values, c.ref_pos, c.stop - c.start,
+                                 pure=False, priority=-i) for i, c in enumerate(chunks)]
+        try:
+            for f in futures:
+                yield f.result()
+                f.release()
+        finally:
+            client.cancel(futures)
+    finally:
+        if own:
+            client.close()
+
+
+# ------------------------------------------------------------------- csv --
+
+def _fmt(x: float) -> str:
+    return repr(float(x))
+
+
+class _CsvSink:
+    """Append-only CSV, a chunk at a time, flushed and synced."""
+
+    def __init__(self, path: str, header: list[str]):
+        self.path, self.header = path, header
+        self.fh: TextIO | None = None
+
+    def read_done(self) -> list[list[str]]:
+        """Complete rows of an earlier run (header checked); the file is rewritten
+        without any half-written last line."""
+        if not os.path.exists(self.path):
+            return []
+        with open(self.path, newline="") as fh:
+            text = fh.read()
+        if not text.strip():
+            return []
+        if not text.endswith("\n"):
+            text = text[: text.rfind("\n") + 1]
+        rows = list(csv.reader(io.StringIO(text)))
+        if not rows or rows[0] != self.header:
+            raise InputError(f"{self.path} was written by a different sweep (its columns "
+                             "differ); remove it or drop --resume", Where(field="--resume"))
+        good = [r for r in rows[1:] if len(r) == len(self.header)]
+        _write_atomic(self.path, _csv_text([self.header, *good]))
+        return good
+
+    def open(self, fresh: bool) -> None:
+        if fresh:
+            _write_atomic(self.path, _csv_text([self.header]))
+        self.fh = open(self.path, "a", newline="")
+
+    def write(self, rows: list[list[str]]) -> None:
+        assert self.fh is not None
+        self.fh.write(_csv_text(rows))
+        self.fh.flush()
+        os.fsync(self.fh.fileno())
+
+    def close(self) -> None:
+        if self.fh is not None:
+            self.fh.close()
+            self.fh = None
+
+
+def _csv_text(rows: list[list[str]]) -> str:
+    buf = io.StringIO()
+    csv.writer(buf, lineterminator="\n").writerows(rows)
+    return buf.getvalue()
+
+
+def _write_atomic(path: str, text: str) -> None:
+    try:
+        from ..io import write_atomic
+    except ImportError:  # the core's helper; same behaviour
+        tmp = f"{path}.tmp{os.getpid()}"
+        with open(tmp, "w", newline="") as fh:
+            fh.write(text)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+        return
+    write_atomic(path, text)
+
+
+# ----------------------------------------------------------------- sweep --
+
+def run_sweep(problem: Any, design: Design, *, workers: int | None = None,
+              cluster: Any = None, chunk_size: int = DEFAULT_CHUNK,
+              csv_path: str | os.PathLike[str] | None = None, resume: bool = False,
+              progress: Progress | bool | None = None,
+              units: Sequence[str] = ()) -> SweepResult:
+    """Solve every variant of ``design``; returns a :class:`SweepResult`.
+
+    ``workers`` > 1 runs chunks on that many local processes; ``cluster``
+    (a scheduler address ``tcp://host:port`` or a ``distributed.Client``) on
+    Dask. ``csv_path`` receives the table as it is solved; with ``resume`` the
+    rows an earlier run of the same sweep left there are kept and only the
+    rest is solved. ``progress`` True draws a bar on stderr.
+    """
+    if workers is not None and cluster is not None:
+        raise InputError("give --workers or --cluster, not both", Where(field="--workers"))
+    if problem.names != design.names:
+        raise ValueError("problem and design name different parameters")
+    nv = len(design)
+    modes = isinstance(problem, ModesProblem)
+    cols = problem.columns()
+    m = len(cols)
+    header = ["variant", *design.names, *cols] + (["ranks"] if modes else [])
+    results = np.full((nv, m), np.nan)
+    ranks = np.zeros((nv, m), dtype=int) if modes else None
+    done = 0
+    sink = _CsvSink(os.fspath(csv_path), header) if csv_path is not None else None
+    if sink is not None:
+        existed = resume and os.path.exists(sink.path)
+        if existed:
+            done = _restore(sink.read_done(), design, results, ranks, m)
+        sink.open(fresh=not existed)
+    chunks = _chunks(design, done, chunk_size)
+    if isinstance(progress, Progress):
+        bar: Progress | None = progress
+    elif progress:
+        bar = Progress(nv)
+    else:
+        bar = None
+    if bar is not None:
+        bar.update(done)
+    if cluster is not None:
+        stream = _run_dask(problem, chunks, cluster)
+    elif workers is not None and workers > 1:
+        stream = _run_processes(problem, chunks, workers)
+    else:
+        stream = _run_inprocess(problem, chunks)
+    try:
+        for c, out in zip(chunks, stream, strict=False):
+            _store(c, out, design, results, ranks, m)
+            if sink is not None:
+                sink.write(_rows(c.start, c.stop, design, results, ranks))
+            if bar is not None:
+                bar.update(c.stop - c.start)
+    finally:
+        if hasattr(stream, "close"):
+            stream.close()
+        if sink is not None:
+            sink.close()
+        if bar is not None:
+            bar.close()
+    return SweepResult(design.names, design.values, tuple(cols), results, design.kind, ranks,
+                       tuple(units))
+
+
+def _store(c: _Chunk, out: dict[str, Any], design: Design, results: np.ndarray,
+           ranks: np.ndarray | None, m: int) -> None:
+    if ranks is None:
+        results[c.start:c.stop] = out["values"]
+        return
+    sorted_hz, match = out["sorted_hz"], out["match"]
+    ref = design.reference[c.start:c.stop]
+    if np.all(ref < 0):                      # no chain inside the chunk: vectorised
+        perm = np.where((ref == REF_NONE)[:, None], np.arange(m)[None, :], match[:, :m])
+        ranks[c.start:c.stop] = perm
+        results[c.start:c.stop] = np.take_along_axis(sorted_hz, perm, axis=1)
+        return
+    for i in range(c.stop - c.start):
+        v = c.start + i
+        r = int(design.reference[v])
+        if r == REF_NONE:
+            perm = np.arange(m)
+        elif r == REF_NOMINAL:
+            perm = match[i][:m]
+        else:
+            perm = match[i][ranks[r]]
+        ranks[v] = perm
+        results[v] = sorted_hz[i][perm]
+
+
+def _rows(a: int, b: int, design: Design, results: np.ndarray,
+          ranks: np.ndarray | None) -> list[list[str]]:
+    rows = []
+    for v in range(a, b):
+        row = [str(v), *map(_fmt, design.values[v]), *map(_fmt, results[v])]
+        if ranks is not None:
+            row.append(" ".join(str(int(x) + 1) for x in ranks[v]))
+        rows.append(row)
+    return rows
+
+
+def _restore(rows: list[list[str]], design: Design, results: np.ndarray,
+             ranks: np.ndarray | None, m: int) -> int:
+    npar = len(design.names)
+    for i, row in enumerate(rows):
+        if i >= len(design) or row[0] != str(i):
+            raise InputError(f"row {i + 1} of the CSV does not belong to this sweep",
+                             Where(field="--resume"))
+        vals = np.array([float(x) for x in row[1:1 + npar]])
+        if not np.allclose(vals, design.values[i], rtol=1e-12, atol=0.0):
+            raise InputError(f"variant {i} in the CSV has other parameter values than this "
+                             "sweep (options or seed changed?)", Where(field="--resume"))
+        results[i] = [float(x) for x in row[1 + npar:1 + npar + m]]
+        if ranks is not None:
+            ranks[i] = [int(x) - 1 for x in row[-1].split()]
+    return len(rows)
+
+
+# --------------------------------------------------------------- targets --
+
+@dataclass(frozen=True)
+class TargetResult:
+    """Parameter values found by :func:`find_parameters` and what they achieve.
+
+    ``values`` SI per parameter; ``achieved`` the tracked frequency (Hz) of
+    each targeted mode (or the response minimised, under ``"objective"``).
+    """
+
+    names: tuple[str, ...]
+    values: dict[str, float]
+    targets: dict[str, float]
+    achieved: dict[str, float]
+    success: bool
+    message: str
+    evaluations: int
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"parameters": self.values, "targets": self.targets, "achieved": self.achieved,
+                "success": self.success, "message": self.message,
+                "evaluations": self.evaluations}
+
+    def text(self) -> str:
+        lines = ["parameters found:"]
+        lines += [f"  {n:<20} {self.values[n]:.6g}" for n in self.names]
+        lines.append("achieved:")
+        for key, got in self.achieved.items():
+            want = self.targets.get(key)
+            tail = f"  (target {want:.6g})" if want is not None else ""
+            lines.append(f"  {key:<20} {got:.6g}{tail}")
+        lines.append(("converged: " if self.success else "NOT converged: ") + self.message)
+        return "\n".join(lines)
+
+
+def find_parameters(family: Any, bounds: Mapping[str, tuple[float, float]],
+                    targets: Mapping[int, float] | None = None,
+                    objective: Callable[[dict[str, float]], float] | None = None,
+                    start: Mapping[str, float] | None = None) -> TargetResult:
+    """Parameter values within ``bounds`` (SI) that meet the targets.
+
+    ``targets`` maps mode numbers (1-based, in the order of the family's
+    nominal design, followed by MAC as the parameters move) to frequencies
+    (Hz): solved as bounded least squares on f/target - 1
+    (``scipy.optimize.least_squares``, trust-region reflective). Otherwise
+    ``objective(dict name -> SI value)`` is minimised within the bounds
+    (``scipy.optimize.minimize``, L-BFGS-B). Parameters not in ``bounds``
+    stay at their nominal values. Variables are scaled to [0, 1] on their
+    bounds.
+    """
+    import scipy.optimize as so
+    names = tuple(bounds)
+    all_names = tuple(family.names)
+    unknown = [n for n in names if n not in all_names]
+    if unknown:
+        raise InputError(f"no parameter {unknown[0]!r} in the model", Where(field="--vary"))
+    lo = np.array([bounds[n][0] for n in names], dtype=float)
+    hi = np.array([bounds[n][1] for n in names], dtype=float)
+    if np.any(hi <= lo):
+        raise InputError("each bound needs LOW < HIGH", Where(field="--vary"))
+    nominal = np.asarray(getattr(family, "nominal", np.zeros(len(all_names))), dtype=float)
+    idx = [all_names.index(n) for n in names]
+    x_start = np.array([(start or {}).get(n, nominal[i]) for n, i in zip(names, idx,
+                                                                        strict=True)])
+    u0 = np.clip((x_start - lo) / (hi - lo), 0.0, 1.0)
+    K0, M0 = family.matrices(nominal[None, :])
+    f0, ref_shapes = batched_modes(K0, M0)
+
+    def full(u: np.ndarray) -> np.ndarray:
+        p = nominal.copy()
+        p[idx] = lo + np.asarray(u) * (hi - lo)
+        return p
+
+    def tracked(u: np.ndarray) -> np.ndarray:
+        K, M = family.matrices(full(u)[None, :])
+        f, shapes = batched_modes(K, M)
+        match = batch_match(ref_shapes, shapes, M if M.ndim == 2 else M)
+        return f[0][match[0]]
+
+    if targets:
+        modes = sorted(targets)
+        for mode in modes:
+            if not 1 <= mode <= f0.shape[1]:
+                raise InputError(f"mode {mode} does not exist (the model has {f0.shape[1]})",
+                                 Where(field="--target"))
+        want = np.array([targets[mode] for mode in modes])
+        sol = so.least_squares(lambda u: tracked(u)[np.array(modes) - 1] / want - 1.0,
+                               u0, bounds=(0.0, 1.0), method="trf", x_scale=1.0,
+                               xtol=1e-12, ftol=1e-12, gtol=1e-12)
+        u, nfev, ok, msg = sol.x, sol.nfev, bool(sol.success), str(sol.message)
+        f = tracked(u)
+        achieved = {f"mode{mode}_hz": float(f[mode - 1]) for mode in modes}
+        tg = {f"mode{mode}_hz": float(targets[mode]) for mode in modes}
+    elif objective is not None:
+        def fun(u: np.ndarray) -> float:
+            return float(objective(dict(zip(all_names, full(u), strict=True))))
+        sol = so.minimize(fun, u0, method="L-BFGS-B", bounds=[(0.0, 1.0)] * len(names))
+        u, nfev, ok, msg = sol.x, sol.nfev, bool(sol.success), str(sol.message)
+        achieved = {"objective": fun(u)}
+        tg = {}
+    else:
+        raise InputError("give targets or an objective", Where(field="--target"))
+    p = full(u)
+    return TargetResult(names, {n: float(p[i]) for n, i in zip(names, idx, strict=True)},
+                        tg, achieved, ok, msg, int(nfev))
