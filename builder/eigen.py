@@ -10,8 +10,9 @@ Two paths:
 - dense (``n <= DENSE_LIMIT`` DOFs, or when nearly all modes are asked for):
   :func:`scipy.linalg.eigh` on the generalised problem;
 - sparse (larger): shift-invert Lanczos, :func:`scipy.sparse.linalg.eigsh`
-  with ``sigma`` slightly below zero, so that ``K - sigma M`` is positive
-  definite and can be factorised even when K is singular. The start vector
+  with ``sigma`` slightly below zero (:func:`default_shift`), so that
+  ``K - sigma M`` is positive definite and can be factorised (sparse LU)
+  even when K is singular. The start vector
   is a fixed pseudo-random vector, so repeated runs give identical results.
 
 Either way the returned shapes are made M-orthonormal by a final Rayleigh-Ritz
@@ -28,7 +29,8 @@ M-orthonormal basis of their space.
 
 from __future__ import annotations
 
-__all__ = ["lowest_modes", "DENSE_LIMIT", "DEFAULT_SHIFT", "natural_frequencies_hz"]
+__all__ = ["lowest_modes", "DENSE_LIMIT", "DEFAULT_SHIFT", "default_shift",
+           "natural_frequencies_hz"]
 
 import numpy as np
 import scipy.linalg
@@ -40,9 +42,15 @@ from .errors import InputError
 #: Problems with at most this many DOFs are solved densely.
 DENSE_LIMIT = 600
 
-#: Default shift of the sparse path, rad^2/s^2: about -(0.16 Hz)^2, slightly
-#: below the rigid-body modes (0) and far below any vehicle mode of interest.
+#: Least magnitude of the default shift of the sparse path, rad^2/s^2: about
+#: -(0.16 Hz)^2, below the rigid-body modes (0) and far below any vehicle mode.
 DEFAULT_SHIFT = -1.0
+
+#: The default shift is also at least this many times the round-off level of
+#: the eigenvalues, eps * max(K_jj / M_jj): below that, K - sigma M is
+#: numerically as singular as K. (Fine chains of small segments have huge
+#: K_jj / M_jj; their rigid-body eigenvalues come out at that round-off level.)
+_NOISE_FACTOR = 100.0
 
 #: Seed of the fixed start vector of the sparse path.
 _START_SEED = 20_240_611
@@ -84,8 +92,9 @@ def lowest_modes(K, M, count: int, sigma: float | None = None,
         dense or scipy sparse.
     M : (n, n) symmetric positive definite mass (kg, kg m^2, ...), same kinds.
     count : number of modes wanted, 1 <= count <= n.
-    sigma : shift of the sparse path, rad^2/s^2 (default :data:`DEFAULT_SHIFT`);
-        modes nearest above it are found first. Must not be an eigenvalue.
+    sigma : shift of the sparse path, rad^2/s^2 (default :func:`default_shift`,
+        slightly negative; increased if K - sigma M proves singular); modes
+        nearest it are found first. Must not be an eigenvalue.
     dense_limit : size up to which the dense solver is used.
 
     Returns
@@ -107,22 +116,39 @@ def lowest_modes(K, M, count: int, sigma: float | None = None,
         lam, x = scipy.linalg.eigh(0.5 * (k + k.T), 0.5 * (m + m.T),
                                    subset_by_index=[0, count - 1])
         return lam, _sign_convention(x)
-    shift = DEFAULT_SHIFT if sigma is None else float(sigma)
     k = scipy.sparse.csc_array(K)
     m = scipy.sparse.csc_array(M)
-    shifted = (k - shift * m).tocsc()
-    try:
-        solve = scipy.sparse.linalg.factorized(shifted)
-    except RuntimeError as exc:  # exactly singular factor
-        raise InputError(f"K - sigma M is singular at sigma = {shift:g} rad^2/s^2 "
-                         "(is M positive definite?)") from exc
-    op = scipy.sparse.linalg.LinearOperator((n, n), matvec=solve, dtype=float)
+    shift = default_shift(k, m) if sigma is None else float(sigma)
+    tries = 1 if sigma is not None else 4
+    for attempt in range(tries):
+        try:
+            lu = scipy.sparse.linalg.splu((k - shift * m).tocsc())
+            break
+        except RuntimeError as exc:  # exactly singular factor
+            if attempt == tries - 1:
+                raise InputError(f"K - sigma M is singular at sigma = {shift:g} rad^2/s^2 "
+                                 "(is M positive definite?)") from exc
+            shift *= 100.0
+    op = scipy.sparse.linalg.LinearOperator((n, n), matvec=lu.solve, dtype=float)
     v0 = np.random.default_rng(_START_SEED).standard_normal(n)
     # Shift-invert mode: the operator is (K - sigma M)^-1, given explicitly.
     _, x = scipy.sparse.linalg.eigsh(k, k=count, M=m, sigma=shift, which="LM",
                                      OPinv=op, v0=v0, ncv=min(n, max(2 * count + 1, 20)))
     lam, x = _rayleigh_ritz(k, m, x)
     return lam, _sign_convention(x)
+
+
+def default_shift(K, M) -> float:
+    """The default (negative) shift of the sparse path, rad^2/s^2.
+
+    ``-max(1, 100 eps max_j(K_jj / M_jj))``: slightly below zero, but clear of
+    the round-off level of the eigenvalues, so that ``K - sigma M`` factorises
+    even when K is singular.
+    """
+    kd = np.abs(np.asarray(K.diagonal(), dtype=float))
+    md = np.abs(np.asarray(M.diagonal(), dtype=float))
+    ratio = float(np.max(kd / np.where(md > 0, md, np.inf))) if kd.size else 0.0
+    return -max(-DEFAULT_SHIFT, _NOISE_FACTOR * np.finfo(float).eps * ratio)
 
 
 def natural_frequencies_hz(eigenvalues: np.ndarray) -> np.ndarray:
