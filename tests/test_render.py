@@ -397,3 +397,69 @@ def test_vtk_export_needs_vtm(frame, tmp_path):
     assembly, model, modes = frame
     with pytest.raises(InputError, match="vtm"):
         export_vtk(build_scene(assembly), model.dofs, modes, tmp_path / "modes.vtk")
+
+
+# ------------------------------------------------------------- depths and the command
+
+def test_reduced_modes_are_expanded_to_every_body():
+    # Guyan (1965) static condensation, recomputed here with numpy: with the
+    # kept DOFs m and the rest s, q_s = -K_ss^-1 K_sm q_m.
+    from pathlib import Path
+
+    from builder.load import load_assembly
+    from builder.reduce import reduce_to_depth
+    from builder.render import expanded_modes
+
+    car = load_assembly(Path(__file__).parent.parent / "assemblies" / "compact_car.yaml")
+    full = assemble(car)
+    small = reduce_to_depth(full, car.depths["bounce_pitch"])
+    modes = compute_modes(small)
+    dofs, drawn = expanded_modes(small, modes)
+    assert dofs == full.dofs
+    K = full.K.toarray()
+    m = [full.dofs.index(d) for d in small.dofs]
+    s = [i for i in range(len(full.dofs)) if i not in m]
+    for mode, shown in zip(modes.modes, drawn, strict=True):
+        expected = np.zeros(len(full.dofs))
+        expected[m] = mode.shape
+        expected[s] = -np.linalg.solve(K[np.ix_(s, s)], K[np.ix_(s, m)] @ mode.shape)
+        np.testing.assert_allclose(shown.shape, expected, rtol=1e-9, atol=1e-12)
+        assert shown.frequency_hz == mode.frequency_hz and shown.label == mode.label
+
+
+def test_render_command_writes_each_kind(run_cli, tmp_path):
+    from pathlib import Path
+
+    car = Path(__file__).parent.parent / "assemblies" / "compact_car.yaml"
+    code, _, err = run_cli("render", car, "--mode", "2", "--out", tmp_path / "m.png",
+                           "--size", "320x240", "--view", "side", "--depth", "half_car")
+    assert code == 0, err
+    assert Image.open(tmp_path / "m.png").size == (320, 240)
+    code, _, err = run_cli("render", car, "--sheet", "4", "--out", tmp_path / "s.png",
+                           "--size", "644x484")
+    assert code == 0, err
+    assert Image.open(tmp_path / "s.png").size == (644, 484)
+    code, _, err = run_cli("render", car, "--mode", "1", "--out", tmp_path / "m.gif",
+                           "--frames", "4", "--size", "96x72")
+    assert code == 0, err
+    assert Image.open(tmp_path / "m.gif").n_frames == 4
+    code, _, err = run_cli("render", car, "--out", tmp_path / "all.vtm")
+    assert code == 0, err
+    assert "mode_10" in pv.read(tmp_path / "all.vtm")["body:body"].point_data
+
+
+@pytest.mark.parametrize("args, words", [
+    (("--mode", "99", "--out", "x.png"), "mode 99"),
+    (("--sheet", "3", "--out", "x.gif"), "--out"),
+    (("--out", "x.gif"), "--mode"),
+    (("--mode", "1", "--out", "x.jpg"), ".png"),
+    (("--mode", "1", "--out", "x.png", "--size", "tiny"), "--size"),
+    (("--mode", "1", "--out", "x.png", "--scale", "-1"), "--scale"),
+])
+def test_render_command_refuses_bad_options(run_cli, tmp_path, monkeypatch, args, words):
+    from pathlib import Path
+
+    car = Path(__file__).parent.parent / "assemblies" / "quarter_car.yaml"
+    monkeypatch.chdir(tmp_path)
+    code, _, err = run_cli("render", car, *args)
+    assert code == 2 and words in err and err.count("\n") == 1

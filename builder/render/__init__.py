@@ -15,10 +15,12 @@ from .export import export_vtk, scene_blocks
 from .modeshape import (
     DEFAULT_SCALE,
     VIEWS,
+    DrawnMode,
     ModeField,
     ModeRenderer,
     choose_view,
     encode_png,
+    expanded_modes,
     mode_field,
     mode_title,
     mp4_available,
@@ -36,5 +38,5 @@ __all__ = [
     "ModeField", "ModeRenderer", "mode_field", "mode_title", "choose_view", "phase_normalised",
     "render_mode", "save_mode_image", "save_mode_animation", "encode_png", "mp4_available",
     "parse_size", "VIEWS", "DEFAULT_SCALE", "render_sheet", "save_sheet", "sheet_layout",
-    "export_vtk", "scene_blocks",
+    "export_vtk", "scene_blocks", "DrawnMode", "expanded_modes",
 ]

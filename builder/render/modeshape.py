@@ -37,7 +37,7 @@ from .scene import PALETTE, SPATIAL, Scene, body_motions, import_pyvista, mode_d
 __all__ = [
     "VIEWS", "DEFAULT_SCALE", "ModeField", "ModeRenderer", "mode_field", "mode_title",
     "choose_view", "phase_normalised", "render_mode", "save_mode_image", "save_mode_animation",
-    "encode_png", "write_bytes", "mp4_available",
+    "encode_png", "write_bytes", "mp4_available", "DrawnMode", "expanded_modes",
 ]
 
 VIEWS = ("side", "front", "top", "iso")
@@ -114,6 +114,45 @@ def mode_field(scene: Scene, dofs: Sequence[str], shape: ArrayLike) -> ModeField
     peak = max((float(a.max()) for a in amp if a is not None and a.size), default=0.0)
     norm = [None if a is None else (a / peak if peak > 0 else np.zeros_like(a)) for a in amp]
     return ModeField(disp, norm, peak, body_motions(scene, dofs, shape))
+
+
+@dataclass(frozen=True)
+class DrawnMode:
+    """A mode as drawn: its numbers and label, its shape over the drawn (full) DOFs."""
+
+    number: int
+    frequency_hz: float
+    damping_ratio: float | None
+    label: str
+    shape: NDArray
+    energy: dict[str, float]
+
+
+def expanded_modes(model: Any, modes: Any) -> tuple[tuple[str, ...], list[DrawnMode]]:
+    """The modes' shapes over every DOF of the unreduced model, for drawing.
+
+    A model reduced to a depth carries ``parent`` and ``expansion`` (the Guyan
+    transform, ``q_parent = expansion @ q`` with the road held still); each
+    shape is expanded by it, so condensed bodies move too. An unreduced
+    model's shapes are used as they are. Returns ``(dofs, modes)``.
+    """
+    from .sheet import mode_list
+
+    chosen = mode_list(modes)
+    dofs = tuple(model.dofs)
+    expansion = getattr(model, "expansion", None)
+    parent = getattr(model, "parent", None)
+    if parent is not None and expansion is not None:
+        dofs = tuple(parent.dofs)
+    out = []
+    for k, m in enumerate(chosen):
+        shape = np.asarray(_get(m, "shape"))
+        if parent is not None and expansion is not None:
+            shape = np.asarray(expansion @ shape).reshape(-1)
+        out.append(DrawnMode(int(_get(m, "number", k + 1)), _get(m, "frequency_hz"),
+                             _get(m, "damping_ratio"), str(_get(m, "label", "") or ""), shape,
+                             dict(_get(m, "energy", {}) or {})))
+    return dofs, out
 
 
 def _get(mode: Any, name: str, default: Any = None) -> Any:
@@ -213,11 +252,11 @@ class ModeRenderer:
         self.plotter.set_background(PALETTE["background_bottom"], top=PALETTE["background_top"])
         self._meshes: list[Any] = []
         self._base: list[NDArray] = []
-        font = font_size or max(7, int(round(self.size[1] / 48)))
+        font = font_size or max(7, int(round(self.size[1] / 52)))
         self._font = font
         lut = _colour_table(pv)
-        bar = {"title": "relative amplitude", "n_labels": 3, "fmt": "%.1f",
-               "vertical": True, "position_x": 0.90, "position_y": 0.18, "width": 0.035,
+        bar = {"title": "amplitude", "n_labels": 3, "fmt": "%.1f",
+               "vertical": True, "position_x": 0.9, "position_y": 0.18, "width": 0.035,
                "height": 0.5, "color": PALETTE["text"], "title_font_size": font,
                "label_font_size": font}
         bar_done = False
@@ -258,14 +297,14 @@ class ModeRenderer:
         up /= np.linalg.norm(up)
         right = np.cross(direction, up) * -1.0
         pts = np.vstack([p.mesh.points for p in self.scene.parts
-                         if p.kind not in ("axes", "ground")])
+                         if p.kind != "ground"])
         center = 0.5 * (pts.min(axis=0) + pts.max(axis=0))
         rel = pts - center
         half_w = np.abs(rel @ right).max()
         half_h = np.abs(rel @ up).max()
         aspect = self.size[0] / self.size[1]
         margin = self.scale * self.scene.size
-        parallel = 1.08 * max(half_h + margin, (half_w + margin) / aspect)
+        parallel = 1.06 * max(half_h + margin, (half_w + margin) / aspect / 0.9)
         # Leave the top band to the title: widen and move the scene down.
         band = min(0.3, 2.8 * self._font / self.size[1])
         parallel /= 1.0 - band

@@ -265,7 +265,9 @@ def build_scene(assembly, solid: str = "box") -> Scene:
                      direction=(0, 0, 1), i_size=span[0] + 2 * margin,
                      j_size=span[1] + 2 * margin, i_resolution=10, j_resolution=6)
     parts.append(Part("ground", "ground", _with_double(plane), PALETTE["ground"]))
-    parts.extend(_axes_parts(pv, np.array([lo[0] - 0.5 * margin, lo[1] - 0.5 * margin,
+    # The triad stands off the front-right corner: left of the vehicle in the
+    # side, front and iso views, clear of the scalar bar on the right.
+    parts.extend(_axes_parts(pv, np.array([hi[0] + 0.6 * margin, lo[1] - 0.4 * margin,
                                            ground_z]), 0.12 * size))
 
     _see_through(parts, bodies)

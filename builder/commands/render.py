@@ -1,0 +1,110 @@
+"""``lumpgraph render FILE (--mode N | --sheet N) --out PATH [options]``.
+
+What is written follows ``--out``'s suffix:
+
+- ``.png`` with ``--mode N``: one frame of mode N; with ``--sheet N``: the
+  review sheet of the lowest N modes; with neither: the undeformed scene;
+- ``.gif`` (or ``.mp4`` when an ``ffmpeg`` program is found) with ``--mode``:
+  one cycle of the mode;
+- ``.vtm``: the scene and mode shapes for ParaView (mode N only with
+  ``--mode``, else every mode).
+
+``--depth NAME`` analyses a depth; its modes are expanded back to every body
+(Guyan) before drawing.
+"""
+
+from __future__ import annotations
+
+import argparse
+
+from ..errors import InputError, Where
+from ..io import output_path
+from ._common import add_model_options, load_model
+
+HELP = "3D picture or animation of a mode, or a review sheet"
+
+_VIEWS = ("side", "front", "top", "iso")
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    add_model_options(parser)
+    what = parser.add_mutually_exclusive_group()
+    what.add_argument("--mode", type=int, metavar="N", help="draw mode N (1 = lowest)")
+    what.add_argument("--sheet", type=int, metavar="N",
+                      help="review sheet of the lowest N modes (rigid-body modes left out)")
+    parser.add_argument("--out", required=True, metavar="PATH",
+                        help="output file: .png, .gif, .mp4 (needs ffmpeg) or .vtm")
+    parser.add_argument("--view", choices=_VIEWS,
+                        help="camera (default: side for pitch, front for roll, iso otherwise)")
+    parser.add_argument("--scale", type=float, default=None, metavar="X",
+                        help="largest drawn displacement as a fraction of the vehicle size "
+                             "(default 0.08)")
+    parser.add_argument("--size", metavar="WxH",
+                        help="image size in pixels (default 1024x768; GIF 800x600; sheet "
+                             "480x360 per panel)")
+    parser.add_argument("--frames", type=int, default=36, metavar="N",
+                        help="frames in an animated cycle (default 36)")
+    parser.add_argument("--fps", type=float, default=18.0, help="animation frame rate")
+    parser.add_argument("--solid", choices=("box", "ellipsoid"), default="box",
+                        help="solid drawn for bodies without a shape (same mass and inertia)")
+
+
+def run(args: argparse.Namespace) -> int:
+    out = output_path(args.out, (".png", ".gif", ".mp4", ".vtm"), "--out")
+    suffix = out.lower().rsplit(".", 1)[-1]
+    if suffix in ("gif", "mp4") and args.mode is None:
+        raise InputError("an animation needs --mode N", Where(field="--out"))
+    if args.sheet is not None and suffix != "png":
+        raise InputError("the review sheet is a .png", Where(field="--out"))
+    if args.scale is not None and not args.scale >= 0:
+        raise InputError(f"must be a fraction >= 0, got {args.scale}", Where(field="--scale"))
+
+    from ..analysis.modes import compute_modes
+    from ..render import (
+        DEFAULT_SCALE,
+        build_scene,
+        expanded_modes,
+        export_vtk,
+        parse_size,
+        save_mode_animation,
+        save_mode_image,
+        save_sheet,
+    )
+    from ..render.scene import import_pyvista
+
+    import_pyvista()
+    assembly, model = load_model(args)
+    modes = compute_modes(model)
+    dofs, drawn = expanded_modes(model, modes)
+    scale = DEFAULT_SCALE if args.scale is None else args.scale
+    scene = build_scene(assembly, solid=args.solid)
+    if args.mode is not None and not 1 <= args.mode <= len(drawn):
+        raise InputError(f"mode {args.mode} does not exist: the model has {len(drawn)} modes",
+                         Where(field="--mode"))
+    chosen = drawn[args.mode - 1] if args.mode is not None else None
+
+    if suffix == "vtm":
+        export_vtk(scene, dofs, [chosen] if chosen is not None else drawn, out)
+    elif args.sheet is not None:
+        size = parse_size(args.size, None) if args.size else None
+        save_sheet(scene, dofs, drawn, out, args.sheet, size=size, view=args.view, scale=scale)
+    elif suffix == "png":
+        size = parse_size(args.size, (1024, 768))
+        if chosen is None:
+            _save_scene(scene, out, size, args.view or "iso")
+        else:
+            save_mode_image(scene, dofs, chosen, out, view=args.view, scale=scale, size=size)
+    else:
+        save_mode_animation(scene, dofs, chosen, out, frames=args.frames, fps=args.fps,
+                            view=args.view, scale=scale, size=parse_size(args.size, (800, 600)))
+    print(f"wrote {out}")
+    return 0
+
+
+def _save_scene(scene, out: str, size: tuple[int, int], view: str) -> None:
+    from ..render import ModeRenderer, encode_png
+    from ..render.modeshape import write_bytes
+
+    with ModeRenderer(scene, size, scale=0.0, scalar_bar=False) as renderer:
+        image = renderer.draw(None, scene.name, view)
+    write_bytes(out, encode_png(image))

@@ -1,0 +1,46 @@
+"""``lumpgraph report FILE --out DIR [--depth NAME] [--sheet N] [--road CLASS] [--speed V]``.
+
+Writes ``DIR/report.html``: one self-contained page (images embedded) with
+the model summary and checks, modes, ladder, review sheet, road responses
+and ride figures (when the file has road points and sensors), and plugin
+tables. See :mod:`builder.report`.
+"""
+
+from __future__ import annotations
+
+import argparse
+
+from ..errors import InputError, Where
+from ._common import add_model_options, load_model
+
+HELP = "self-contained HTML review report"
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    add_model_options(parser)
+    parser.add_argument("--out", required=True, metavar="DIR",
+                        help="folder for report.html (created if missing)")
+    parser.add_argument("--sheet", type=int, default=12, metavar="N",
+                        help="modes on the review sheet (default 12)")
+    parser.add_argument("--road", default="B", metavar="CLASS",
+                        help="ISO 8608 road class A..H for the ride section (default B)")
+    parser.add_argument("--speed", default="80 km/h", metavar="V",
+                        help='vehicle speed for the ride section (default "80 km/h"; bare: m/s)')
+
+
+def run(args: argparse.Namespace) -> int:
+    from ..quantities import to_si
+    from ..render.scene import import_pyvista
+    from ..report import write_report
+
+    if args.sheet < 1:
+        raise InputError(f"must be at least 1, got {args.sheet}", Where(field="--sheet"))
+    speed = to_si(args.speed, "speed", Where(field="--speed"))
+    if not speed > 0:
+        raise InputError(f"must be positive, got {args.speed}", Where(field="--speed"))
+    import_pyvista()
+    assembly, model = load_model(args)
+    path = write_report(assembly, model, args.out, sheet=args.sheet,
+                        road_class=args.road.strip().upper(), speed_m_s=float(speed))
+    print(f"wrote {path}")
+    return 0

@@ -1,0 +1,402 @@
+"""The review report: one self-contained HTML page about a model.
+
+:func:`report_html` gathers, for an assembly and its linear model:
+
+1. the model summary (bodies, links, road points, sensors, plugins) and the
+   model checks (:func:`builder.analysis.checks.check_model`);
+2. the modes table (frequency, damping, label, kinetic-energy shares);
+3. the ladder table (:func:`builder.analysis.ladder.compute_ladder`);
+4. the review sheet of the lowest modes (:mod:`builder.render`);
+5. where the file has road points and sensors: frequency responses from the
+   road and the ride figures on an ISO 8608 road (:mod:`builder.analysis.ride`);
+6. each plugin's own tables, when the plugin module offers them;
+
+and the caution text. Every image is a PNG embedded as a ``data:`` URI, so
+the page is one file that can be mailed or archived. A section whose
+analysis is not available, or fails on this model, says so in one line
+instead of stopping the report.
+
+>>> from builder.load import load_text                # doctest: +SKIP
+>>> write_report(assembly, model, "review/")           # doctest: +SKIP
+PosixPath('review/report.html')
+"""
+
+from __future__ import annotations
+
+import base64
+import html
+import io
+import math
+import os
+from collections.abc import Callable, Sequence
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from .errors import InputError, LumpgraphError, Where
+
+__all__ = ["CAUTION", "report_html", "write_report", "data_uri", "REPORT_NAME"]
+
+REPORT_NAME = "report.html"
+
+CAUTION = ("These figures are screening estimates from a linear lumped-parameter model "
+           "with the data given in the file. Exposure limits and the acceptance of a "
+           "design follow ISO 2631-1, local regulation and qualified engineering judgement.")
+
+_STYLE = """
+body { font-family: "DejaVu Sans", Helvetica, Arial, sans-serif; color: #23272e;
+       background: #f6f3ec; margin: 0; }
+main { max-width: 1180px; margin: 0 auto; padding: 1.2em 1.6em 3em; }
+h1 { font-size: 1.6em; margin: 0.4em 0 0.1em; color: #2c3e57; }
+h2 { font-size: 1.2em; margin-top: 1.8em; border-bottom: 2px solid #c9553a;
+     padding-bottom: 0.2em; color: #2c3e57; }
+h3 { font-size: 1.0em; margin-bottom: 0.3em; color: #4a5568; }
+p.sub { color: #5d636b; margin-top: 0; }
+table { border-collapse: collapse; margin: 0.4em 0 1em; font-size: 0.88em;
+        background: #fffdf8; }
+th, td { border: 1px solid #d6d9cf; padding: 0.25em 0.6em; text-align: right; }
+th { background: #e7e3d8; }
+td.l, th.l { text-align: left; }
+img { max-width: 100%; border: 1px solid #bcc1b5; background: white; }
+.caution { background: #fbeee4; border-left: 5px solid #c9553a; padding: 0.7em 1em;
+           margin: 1.5em 0; }
+.note { color: #6b5d4d; font-style: italic; }
+.bar { display: inline-block; height: 0.7em; background: #3a8a8c; vertical-align: middle; }
+pre { background: #fffdf8; border: 1px solid #d6d9cf; padding: 0.6em; overflow-x: auto; }
+"""
+
+
+# ---------------------------------------------------------------- small helpers
+
+def _e(value: Any) -> str:
+    return html.escape(str(value), quote=True)
+
+
+def data_uri(png: bytes) -> str:
+    """A PNG as a ``data:image/png;base64,...`` URI."""
+    return "data:image/png;base64," + base64.b64encode(png).decode("ascii")
+
+
+def _img(png: bytes, alt: str) -> str:
+    return f'<img src="{data_uri(png)}" alt="{_e(alt)}">'
+
+
+def _num(value: Any, digits: int = 4) -> str:
+    if value is None:
+        return "-"
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        return _e(value)
+    if not math.isfinite(v):
+        return "-"
+    return f"{v:.{digits}g}"
+
+
+def _table(header: Sequence[str], rows: Sequence[Sequence[Any]], left: Sequence[int] = (0,)) -> str:
+    """An HTML table; ``left`` lists the columns aligned left (text)."""
+    def cell(tag: str, k: int, v: Any) -> str:
+        cls = ' class="l"' if k in left else ""
+        return f"<{tag}{cls}>{v}</{tag}>"
+    head = "".join(cell("th", k, _e(h)) for k, h in enumerate(header))
+    body = "".join("<tr>" + "".join(cell("td", k, v) for k, v in enumerate(r)) + "</tr>"
+                   for r in rows)
+    return f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>"
+
+
+def _vector(v: Any, digits: int = 3) -> str:
+    return "[" + ", ".join(f"{float(x):.{digits}f}" for x in np.asarray(v).ravel()) + "]"
+
+
+def _figure_png(fig: Any) -> bytes:
+    import matplotlib.pyplot as plt
+
+    buffer = io.BytesIO()
+    fig.savefig(buffer, format="png", dpi=100)
+    plt.close(fig)
+    return buffer.getvalue()
+
+
+def _section(title: str, build: Callable[[], str]) -> str:
+    """A section; an analysis that is missing or fails leaves a one-line note."""
+    try:
+        content = build()
+    except ImportError as exc:
+        content = f'<p class="note">Not available in this installation ({_e(exc)}).</p>'
+    except (LumpgraphError, ValueError, np.linalg.LinAlgError, RuntimeError) as exc:
+        content = f'<p class="note">Not computed for this model: {_e(exc)}</p>'
+    if not content:
+        return ""
+    return f"<section><h2>{_e(title)}</h2>\n{content}\n</section>\n"
+
+
+# ---------------------------------------------------------------- sections
+
+def _summary(assembly: Any, model: Any) -> str:
+    bodies = [[_e(b.name), _num(b.mass), _vector(b.cg), _e(" ".join(b.dofs)),
+               _e((b.shape or {}).get("kind", "equivalent box") if b.shape else "equivalent box")]
+              for b in assembly.bodies.values()]
+    out = [f"<p>{len(assembly.bodies)} bodies, {len(assembly.links)} links, "
+           f"{len(assembly.road)} road points, {len(assembly.sensors)} sensors; "
+           f"model analysed: <b>{_e(model.name)}</b> with {len(model.dofs)} DOFs.</p>",
+           "<h3>Bodies</h3>",
+           _table(["body", "mass (kg)", "cg (m)", "DOFs", "drawn as"], bodies, left=(0, 3, 4))]
+    links = []
+    for link in assembly.links.values():
+        links.append([_e(link.name), _e(link.type), _e(link.a.node), _e(link.b.node),
+                      _e(_props_text(link.props))])
+    if links:
+        out += ["<h3>Links</h3>", _table(["link", "type", "end a", "end b", "properties (SI)"],
+                                         links, left=(0, 1, 2, 3, 4))]
+    if assembly.road:
+        out += ["<h3>Road points</h3>",
+                _table(["road point", "at (m)"],
+                       [[_e(r.name), _vector(r.at)] for r in assembly.road.values()])]
+    if assembly.sensors:
+        out += ["<h3>Sensors</h3>",
+                _table(["sensor", "measures", "on"],
+                       [[_e(s.name), _e(s.measure), _e(s.target)]
+                        for s in assembly.sensors.values()], left=(0, 1, 2))]
+    if assembly.plugins:
+        out += ["<h3>Plugins applied</h3>",
+                _table(["plugin"], [[_e(_plugin_name(p))] for p in assembly.plugins])]
+    return "\n".join(out)
+
+
+def _props_text(props: dict[str, Any]) -> str:
+    parts = []
+    for key, value in props.items():
+        if isinstance(value, int | float) and not isinstance(value, bool):
+            parts.append(f"{key} {float(value):.4g}")
+        elif isinstance(value, np.ndarray) and value.size <= 6:
+            parts.append(f"{key} " + " ".join(f"{float(x):.3g}" for x in value.ravel()))
+        elif isinstance(value, dict) and all(isinstance(v, int | float) for v in value.values()):
+            parts.append(f"{key} " + " ".join(f"{k}={float(v):.3g}" for k, v in value.items()))
+    return "; ".join(parts)
+
+
+def _plugin_name(spec: Any) -> str:
+    for attr in ("name", "use"):
+        value = spec.get(attr) if isinstance(spec, dict) else getattr(spec, attr, None)
+        if value:
+            return str(value)
+    return str(spec)
+
+
+def _checks(model: Any) -> str:
+    from .analysis.checks import check_model
+    from .reduce import full_model
+
+    checks = check_model(full_model(model))
+    d = checks.to_dict()
+    inertia = np.asarray(checks.inertia)
+    rows = [
+        ["total mass", f"{checks.total_mass:.2f} kg"],
+        ["combined cg", _vector(checks.cg) + " m"],
+        ["inertia about cg", f"xx {inertia[0, 0]:.1f}, yy {inertia[1, 1]:.1f}, "
+                             f"zz {inertia[2, 2]:.1f} kg m^2"],
+        ["DOFs (full model)", str(checks.dof_count)],
+        ["unconnected bodies", ", ".join(checks.unconnected) or "none"],
+        ["zero-frequency modes", f"{checks.zero_modes}"
+         + (f" ({checks.zero_mode_note})" if checks.zero_mode_note else "")],
+        ["symmetry |A - A^T| / |A|", ", ".join(f"{k} {v:.1e}"
+                                               for k, v in checks.asymmetry.items())],
+        ["overall", "passed" if checks.ok else "NEEDS ATTENTION"],
+    ]
+    out = [_table(["check", "result"], [[_e(a), _e(b)] for a, b in rows], left=(0, 1))]
+    if checks.static:
+        static = [[_e(s["link"]), _e(s["component"]),
+                   _num(1000 * s["deflection"]) + (" mm" if s["unit"] == "m" else " mrad"),
+                   _num(s["force"]), _num(s["implied_frequency_hz"], 3)]
+                  for s in d["static_deflection"]]
+        out += ["<h3>Static deflection under 1 g</h3>",
+                _table(["link", "component", "deflection", "force (N or N m)",
+                        "implied frequency (Hz)"], static, left=(0, 1))]
+    out += [f'<p class="note">warning: {_e(w)}</p>' for w in checks.warnings]
+    return "\n".join(out)
+
+
+def _energy_text(energy: dict[str, float], limit: float = 0.05) -> str:
+    shares = sorted(energy.items(), key=lambda kv: -abs(kv[1]))
+    parts = [f"{_e(k)} {100 * v:.0f}%" for k, v in shares if abs(v) >= limit][:5]
+    return ", ".join(parts) or "-"
+
+
+def _modes(modes: Any) -> str:
+    rows = []
+    for m in modes.modes:
+        top = max((abs(v) for v in m.energy.values()), default=0.0)
+        bar = f'<span class="bar" style="width:{int(round(60 * top))}px"></span>'
+        rows.append([str(m.number), _num(m.frequency_hz), _num(m.damping_ratio, 3),
+                     _num(getattr(m, "damped_frequency_hz", None)), _e(m.label),
+                     f"{bar} {_energy_text(m.energy)}"])
+    notes = "".join(f'<p class="note">{_e(n)}</p>' for n in getattr(modes, "notes", ()))
+    return (_table(["mode", "f (Hz)", "damping ratio", "damped f (Hz)", "label",
+                    "kinetic energy shares (largest first)"], rows, left=(4, 5)) + notes)
+
+
+def _ladder(model: Any) -> str:
+    from .analysis.ladder import compute_ladder
+    from .reduce import full_model
+
+    ladder = compute_ladder(full_model(model))
+    out = []
+    if ladder.proposed:
+        out.append('<p class="note">The file has no depths: lumpgraph proposed these.</p>')
+    for rung in ladder.rungs:
+        rows = []
+        for m, k, c, e in zip(rung.modes.modes, rung.match, rung.mac, rung.error, strict=True):
+            ff = ladder.full.modes[k - 1].frequency_hz if k else None
+            rows.append([str(m.number), _num(m.frequency_hz), str(k or "-"), _num(ff),
+                         f"{c:.3f}", f"{100 * e:+.2f} %", _e(m.label)])
+        out += [f"<h3>Depth {_e(rung.depth)}: {len(rung.dofs)} DOFs "
+                f"({_e(', '.join(rung.dofs))})</h3>",
+                _table(["mode", "f (Hz)", "full mode", "full f (Hz)", "MAC", "error", "label"],
+                       rows, left=(6,))]
+    return "\n".join(out)
+
+
+def _sheet(assembly: Any, model: Any, modes: Any, count: int) -> str:
+    from .render import build_scene, encode_png, expanded_modes, render_sheet
+
+    dofs, drawn = expanded_modes(model, modes)
+    if not any(float(m.frequency_hz or 0.0) > 0 for m in drawn):
+        return '<p class="note">No vibration modes to draw (all modes are rigid).</p>'
+    image = render_sheet(build_scene(assembly), dofs, drawn, count)
+    return (_img(encode_png(image), "review sheet of the lowest modes")
+            + '<p class="note">Colour: point amplitude over the largest in each mode; '
+              'outlines: the undeformed position. Views: side for pitch, front for roll, '
+              'iso otherwise.</p>')
+
+
+def _frf(model: Any) -> str:
+    if not model.inputs or not model.sensors:
+        return ""
+    import matplotlib
+
+    from .analysis.ride import road_frequency_response
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    f = np.geomspace(0.5, 50.0, 400)
+    H = road_frequency_response(model, f)          # nf x ns x nr
+    combined = np.abs(H.sum(axis=2))                # every road point in phase
+    units = list(dict.fromkeys(getattr(model, "sensor_units", ()) or ["-"] * len(model.sensors)))
+    fig, axes = plt.subplots(len(units), 1, figsize=(8.5, 2.6 * len(units) + 0.6),
+                             squeeze=False, sharex=True)
+    for ax, unit in zip(axes[:, 0], units, strict=True):
+        for j, name in enumerate(model.sensors):
+            if (model.sensor_units[j] if getattr(model, "sensor_units", None) else "-") == unit:
+                ax.loglog(f, np.maximum(combined[:, j], 1e-300), label=name)
+        ax.set_ylabel(f"|H| ({unit} per m)")
+        ax.grid(True, which="both", alpha=0.3)
+        ax.legend(fontsize=7, loc="best")
+    axes[-1, 0].set_xlabel("frequency (Hz)")
+    fig.suptitle(f"{model.name}: response to a unit road displacement at every road point "
+                 "in phase", fontsize=10)
+    fig.tight_layout()
+    return _img(_figure_png(fig), "frequency responses from the road")
+
+
+def _ride(model: Any, road_class: str, speed_m_s: float) -> str:
+    if not model.inputs or not model.sensors:
+        return ""
+    from .analysis.ride import ride_response
+
+    result = ride_response(model, road_class, speed_m_s)
+    rows = []
+    for s in result.sensors.values():
+        rows.append([_e(s.name), _e(s.measure), _num(s.rms), _e(s.unit),
+                     _num(s.weighted_rms), _e(s.weighting or "-"),
+                     _e(", ".join(s.reactions) or "-"), _num(s.dynamic_load_ratio, 3)])
+    table = _table(["sensor", "measure", "RMS", "unit", "weighted RMS", "weighting",
+                    "comfort (ISO 2631-1 Annex C)", "dynamic load ratio"], rows,
+                   left=(0, 1, 3, 5, 6))
+    head = (f"<p>ISO 8608 class {_e(result.road_class)} road at "
+            f"{speed_m_s * 3.6:.0f} km/h, {_e(result.tracks)} tracks, waviness "
+            f"{result.waviness:g}.</p>")
+    notes = "".join(f'<p class="note">{_e(n)}</p>' for n in result.notes)
+    figure = _img(_figure_png(result.plot()), "ride response spectra")
+    return head + table + notes + figure
+
+
+def _plugins(assembly: Any, model: Any) -> str:
+    """Each plugin's own tables, from ``builder.plugin.plugin_tables`` when it exists."""
+    if not assembly.plugins:
+        return ""
+    from . import plugin
+
+    tables = getattr(plugin, "plugin_tables", None)
+    if tables is None:
+        return '<p class="note">The plugin mechanism offers no tables yet.</p>'
+    out = []
+    for title, table in tables(assembly, model):
+        out.append(f"<h3>{_e(title)}</h3>")
+        out.append(_any_table(table))
+    return "\n".join(out)
+
+
+def _any_table(table: Any) -> str:
+    """A plugin's table: rows (first the header), an object with ``table()``, or text."""
+    if isinstance(table, list | tuple) and table and isinstance(table[0], list | tuple):
+        header, *rows = table
+        return _table([str(h) for h in header],
+                      [[_num(v) if isinstance(v, int | float) else _e(v) for v in r]
+                       for r in rows], left=(0,))
+    if hasattr(table, "table"):
+        return f"<pre>{_e(table.table())}</pre>"
+    return f"<pre>{_e(table)}</pre>"
+
+
+# ---------------------------------------------------------------- the page
+
+def report_html(assembly: Any, model: Any, *, sheet: int = 12, road_class: str = "B",
+                speed_m_s: float = 80.0 / 3.6, modes: Any = None) -> str:
+    """The report page as HTML text (images embedded).
+
+    ``sheet`` is the number of modes on the review sheet; ``road_class`` and
+    ``speed_m_s`` (m/s) set the ISO 8608 road of the ride section; ``modes``
+    the model's ModeSet if already computed.
+    """
+    from .analysis.modes import compute_modes
+
+    if modes is None:
+        modes = compute_modes(model)
+    title = assembly.name or "lumpgraph model"
+    parts = [
+        "<!DOCTYPE html>",
+        '<html lang="en"><head><meta charset="utf-8">',
+        f"<title>{_e(title)}: review report</title>",
+        f"<style>{_STYLE}</style></head><body><main>",
+        f"<h1>{_e(title)}</h1>",
+        f'<p class="sub">Review report by lumpgraph; source {_e(assembly.source or "-")}; '
+        f"model {_e(model.name)} ({len(model.dofs)} DOFs). SI units, ISO 8855 axes "
+        "(x forward, y left, z up).</p>",
+        f'<div class="caution">{_e(CAUTION)}</div>',
+        _section("Model summary", lambda: _summary(assembly, model)),
+        _section("Model checks", lambda: _checks(model)),
+        _section("Modes", lambda: _modes(modes)),
+        _section("Model ladder", lambda: _ladder(model)),
+        _section("Review sheet", lambda: _sheet(assembly, model, modes, sheet)),
+        _section("Frequency response from the road", lambda: _frf(model)),
+        _section("Ride on a random road", lambda: _ride(model, road_class, speed_m_s)),
+        _section("Plugin analyses", lambda: _plugins(assembly, model)),
+        f'<div class="caution">{_e(CAUTION)}</div>',
+        "</main></body></html>",
+    ]
+    return "\n".join(p for p in parts if p)
+
+
+def write_report(assembly: Any, model: Any, out_dir: str | os.PathLike, **options: Any) -> Path:
+    """Write ``out_dir/report.html`` (the folder is created if missing); returns its path."""
+    from .io import write_atomic
+
+    folder = Path(out_dir)
+    if folder.exists() and not folder.is_dir():
+        raise InputError(f"{folder} is a file, not a folder", Where(field="--out"))
+    folder.mkdir(parents=True, exist_ok=True)
+    path = folder / REPORT_NAME
+    write_atomic(path, report_html(assembly, model, **options))
+    return path
