@@ -322,3 +322,142 @@ def test_find_parameters_minimises_within_bounds():
     assert res.values["k1"] == pytest.approx(300 * (2 * math.pi) ** 2, rel=1e-3)
     with pytest.raises(InputError, match="mode 3"):
         find_parameters(fam, {"k1": (5e3, 60e3)}, targets={3: 1.0})
+
+
+# ------------------------------------------------------------ file sweeps --
+
+ASSEMBLIES = __import__("pathlib").Path(__file__).resolve().parent.parent / "assemblies"
+QUARTER = ASSEMBLIES / "quarter_car.yaml"
+COMPACT = ASSEMBLIES / "compact_car.yaml"
+
+
+def _quarter_closed_form(ks, kt=210e3, ms=300.0, mu=36.0):
+    """Source: analytic. Roots of ms mu lambda^2 - (ks mu + (ks + kt) ms) lambda
+    + ks kt = 0 (the 2-DOF quarter car), as frequencies in Hz."""
+    ks = np.asarray(ks, dtype=float)
+    a, b, c = ms * mu, -(ks * mu + (ks + kt) * ms), ks * kt
+    disc = np.sqrt(b * b - 4 * a * c)
+    return np.sqrt(np.stack([(-b - disc) / (2 * a), (-b + disc) / (2 * a)], axis=-1)) / (
+        2 * math.pi)
+
+
+def test_file_sweep_matches_quarter_car_closed_form(tmp_path, run_cli):
+    # Source: analytic closed form of the quarter car (above), through the
+    # command line, with the file's ks swept in kN/m.
+    out = tmp_path / "q.csv"
+    code, text, err = run_cli("sweep", QUARTER, "--vary", "ks=15kN/m..30kN/m:7", "--csv", out)
+    assert code == 0, err
+    assert "batched" in text
+    rows = [line.split(",") for line in out.read_text().splitlines()]
+    assert rows[0] == ["variant", "ks", "mode1_hz", "mode2_hz", "ranks"]
+    ks = np.array([float(r[1]) for r in rows[1:]])
+    f = np.array([[float(r[2]), float(r[3])] for r in rows[1:]])
+    np.testing.assert_allclose(ks, np.linspace(15e3, 30e3, 7))
+    np.testing.assert_allclose(f, _quarter_closed_form(ks), rtol=1e-10)
+
+
+def test_file_fast_path_agrees_with_rebuilding_every_variant():
+    # Consistency with the core's public API (load with overrides, assemble,
+    # reduce), not an outside check: the batched path must not change results.
+    from builder.analysis.sweep import CallbackFamily, FileModel, file_family, file_parameters
+    params = file_parameters(COMPACT)
+    names = ("ks_front", "kt", "mount_z")
+    rng = np.random.default_rng(2)
+    p0 = np.array([params[n].value for n in names])
+    rows = p0 * rng.uniform(0.7, 1.3, (4, 3))
+    dims = tuple((n, q.dim) for n, q in params.items())
+    for depth in (None, "half_car"):
+        fam = file_family(COMPACT, names, p0, 0.3 * p0, depth=depth)
+        assert isinstance(fam, AffineFamily)
+        slow = CallbackFamily(names, FileModel(str(COMPACT), dims, depth), p0)
+        fast_f, _ = batched_modes(*fam.matrices(rows))
+        slow_f, _ = batched_modes(*slow.matrices(rows))
+        np.testing.assert_allclose(fast_f, slow_f, rtol=1e-9)
+
+
+def test_file_sweep_with_a_non_affine_parameter_rebuilds(tmp_path):
+    # Source: analytic. A spring rate written as ${k0 * r**2} is not affine in
+    # r, so the sweep rebuilds every variant; the frequency of the one-DOF
+    # model stays sqrt(k0 r^2 / m)/2pi.
+    from builder.analysis.sweep import CallbackFamily, file_family
+    path = tmp_path / "lever.yaml"
+    path.write_text("""format: 1
+motion: bounce
+parameters: {k0: 20 kN/m, r: 0.8, m: 250 kg}
+bodies:
+  body: {mass: "${m}", cg: [0, 0, 0.5], gyradius: {x: 0.3, y: 0.3, z: 0.3}}
+links:
+  spring: {type: spring, a: body, b: ground, axis: z, stiffness: "${k0 * r**2}"}
+""")
+    fam = file_family(path, ("r",), spans=(0.4,))
+    assert isinstance(fam, CallbackFamily)
+    design = build_design([parse_vary("r=0.5..1.1:4")])
+    res = run_sweep(ModesProblem(fam), design, workers=2)
+    r = res.column("r")
+    np.testing.assert_allclose(res.column("mode1_hz"),
+                               np.sqrt(20e3 * r**2 / 250) / (2 * math.pi), rtol=1e-10)
+
+
+def test_sensitivity_and_target_commands_on_the_quarter_car(run_cli):
+    # Source: analytic. df/dks from the derivative of the closed form (central
+    # difference of the exact roots), and the ks that puts the bounce mode at
+    # 1.2 Hz from the characteristic equation solved for ks:
+    # ks = ms lam (kt - mu lam) / (kt - (ms + mu) lam), lam = (2 pi 1.2)^2.
+    code, text, err = run_cli("sweep", QUARTER, "--sensitivity", "--vary", "ks=1..2", "--json")
+    assert code == 0, err
+    import json
+    data = json.loads(text)
+    h = 1.0
+    want = (_quarter_closed_form(21e3 + h) - _quarter_closed_form(21e3 - h)) / (2 * h)
+    got = [m["df_dp"]["ks"] for m in data["modes"]]
+    np.testing.assert_allclose(got, want, rtol=1e-5)
+    assert data["modes"][0]["relative"]["ks"] == pytest.approx(21e3 * want[0] / float(
+        _quarter_closed_form(21e3)[0]), rel=1e-5)
+
+    code, text, err = run_cli("sweep", QUARTER, "--vary", "ks=10kN/m..40kN/m",
+                              "--target", "1=1.2Hz", "--json")
+    assert code == 0, err
+    lam, ms, mu, kt = (2 * math.pi * 1.2) ** 2, 300.0, 36.0, 210e3
+    ks = ms * lam * (kt - mu * lam) / (kt - (ms + mu) * lam)
+    data = json.loads(text)
+    assert data["parameters"]["ks"] == pytest.approx(ks, rel=1e-7)
+    assert data["achieved"]["mode1_hz"] == pytest.approx(1.2, rel=1e-9)
+
+
+def test_ride_sweep_matches_the_ride_analysis(tmp_path, run_cli):
+    # Consistency with builder.analysis.ride at one variant (the ride figures
+    # themselves are checked against outside sources in test_ride.py).
+    from builder.analysis.ride import ride_response
+    from builder.linear import assemble
+    from builder.load import load_assembly
+    out = tmp_path / "r.csv"
+    code, text, err = run_cli("sweep", QUARTER, "--vary", "ks=18kN/m..24kN/m:3", "--result",
+                              "ride:body_accel", "--road", "C", "--speed", "20 m/s",
+                              "--csv", out)
+    assert code == 0, err
+    rows = [line.split(",") for line in out.read_text().splitlines()]
+    assert rows[0] == ["variant", "ks", "body_accel_rms", "body_accel_weighted_rms"]
+    model = assemble(load_assembly(QUARTER, overrides={"ks": "24 kN/m"}))
+    want = ride_response(model, "C", 20.0, points=400, sensors=["body_accel"])
+    assert float(rows[3][2]) == pytest.approx(want.sensors["body_accel"].rms, rel=1e-12)
+    a = [float(r[3]) for r in rows[1:]]
+    assert a[0] < a[1] < a[2]          # a stiffer spring gives a harsher ride
+
+
+@pytest.mark.parametrize("args, option", [
+    (["--vary", "kz=1..2:3"], "--vary"),
+    (["--vary", "ks=1kg..2kg:3"], "--vary"),
+    (["--vary", "ks=1..2"], "--vary"),
+    (["--scatter", "ks=normal:1,2"], "--samples"),
+    (["--vary", "ks=1..2:2", "--result", "ride:nope", "--road", "C", "--speed", "20"],
+     "--result"),
+    (["--vary", "ks=1..2:2", "--result", "ride:body_accel"], "--road"),
+    (["--vary", "ks=1..2:2", "--resume"], "--resume"),
+    (["--vary", "ks=1..2:2", "--csv", "out.txt"], "--csv"),
+    (["--vary", "ks=10kN/m..40kN/m", "--target", "x=1Hz"], "--target"),
+    (["--vary", "ks=10kN/m..40kN/m", "--target", "1=1kg"], "--target"),
+])
+def test_sweep_command_errors_are_one_line(run_cli, args, option):
+    code, text, err = run_cli("sweep", QUARTER, *args)
+    assert code == 2
+    assert option in err and err.count("\n") == 1

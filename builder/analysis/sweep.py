@@ -47,7 +47,8 @@ from .tracking import batch_match
 __all__ = [
     "batched_modes", "AffineFamily", "CallbackFamily", "affine_family", "ModesProblem",
     "FunctionProblem", "SweepResult", "run_sweep", "Progress", "TargetResult",
-    "find_parameters", "family_sensitivities", "DEFAULT_CHUNK",
+    "find_parameters", "family_sensitivities", "DEFAULT_CHUNK", "FileModel", "FileRide",
+    "file_parameters", "file_family", "file_sensitivities", "batched_guyan",
 ]
 
 #: variants per chunk; the same for every executor, so that results agree bit for bit
@@ -163,6 +164,7 @@ class CallbackFamily:
 
     names: tuple[str, ...]
     build: Callable[[dict[str, float]], tuple[np.ndarray, np.ndarray]]
+    nominal: np.ndarray | None = None
 
     def matrices(self, values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         Ks, Ms = [], []
@@ -869,3 +871,200 @@ def find_parameters(family: Any, bounds: Mapping[str, tuple[float, float]],
     p = full(u)
     return TargetResult(names, {n: float(p[i]) for n, i in zip(names, idx, strict=True)},
                         tg, achieved, ok, msg, int(nfev))
+
+
+# ----------------------------------------------------------- file sweeps --
+
+@dataclass(frozen=True)
+class FileModel:
+    """An assembly file at given parameter values: picklable, so workers rebuild it.
+
+    Calling it with ``{name: SI value}`` loads the file with those parameter
+    overrides (in the dimension the file gives each parameter), assembles it,
+    reduces it to ``depth`` (a name in the file) or ``keep`` (patterns), and
+    returns dense (K, M).
+    """
+
+    path: str
+    dims: tuple[tuple[str, tuple[int, int, int]], ...] = ()
+    depth: str | None = None
+    keep: tuple[str, ...] = ()
+
+    def model(self, values: Mapping[str, float]) -> Any:
+        """The LinearModel at these parameter values (SI)."""
+        from ..linear import assemble
+        from ..load import load_assembly
+        from ..quantities import Quantity
+        from ..reduce import reduce_keep, reduce_to_depth
+        dims = dict(self.dims)
+        over = {n: Quantity(float(v), dims.get(n, (0, 0, 0))) for n, v in values.items()}
+        asm = load_assembly(self.path, overrides=over)
+        model = assemble(asm)
+        if self.depth:
+            if self.depth not in asm.depths:
+                known = ", ".join(asm.depths) or "none in this file"
+                raise InputError(f'unknown depth "{self.depth}" (depths: {known})',
+                                 Where(field="--depth"))
+            model = reduce_to_depth(model, asm.depths[self.depth])
+        elif self.keep:
+            model = reduce_keep(model, list(self.keep))
+        return model
+
+    def __call__(self, values: Mapping[str, float]) -> tuple[np.ndarray, np.ndarray]:
+        model = self.model(values)
+        return model.K.toarray(), model.M.toarray()
+
+    def unreduced(self, values: Mapping[str, float]) -> tuple[np.ndarray, np.ndarray]:
+        """Dense (K, M) of the full model, before any depth."""
+        return FileModel(self.path, self.dims)(values)
+
+
+def file_parameters(path: str | os.PathLike[str]) -> dict[str, Any]:
+    """The file's ``parameters:`` as Quantities (SI value and dimension)."""
+    from ..load import load_assembly
+    return dict(load_assembly(path).parameters)
+
+
+def _check_names(params: Mapping[str, Any], names: Sequence[str],
+                 dims: Sequence[tuple[int, int, int]] = ()) -> None:
+    from ..quantities import NONE, _dim_text
+    for i, n in enumerate(names):
+        if n not in params:
+            import difflib
+            hint = difflib.get_close_matches(n, list(params), n=1)
+            tip = f' (did you mean "{hint[0]}"?)' if hint else ""
+            known = ", ".join(params) or "none"
+            raise InputError(f'the file has no parameter "{n}"{tip}; its parameters: {known}',
+                             Where(field="--vary"))
+        if i < len(dims) and dims[i] != NONE and dims[i] != params[n].dim:
+            raise InputError(f'"{n}" is {_dim_text(params[n].dim)} in the file, the sweep '
+                             f"gives {_dim_text(dims[i])}", Where(field="--vary"))
+
+
+def file_family(path: str | os.PathLike[str], names: Sequence[str],
+                nominal: Sequence[float] | None = None, spans: Sequence[float] | None = None,
+                depth: str | None = None, keep: Sequence[str] = (),
+                dims: Sequence[tuple[int, int, int]] = ()) -> AffineFamily | CallbackFamily:
+    """The matrix family of a file over some of its parameters.
+
+    Tries the fast path first: the unreduced K and M probed for an affine
+    dependence (:func:`affine_family`), the depth applied by the batched tie
+    and Guyan reduction, and both checked against the core's own reduction
+    at the nominal point. When that fails, every variant is rebuilt from the
+    file (:class:`CallbackFamily` over :class:`FileModel`).
+    """
+    from ..linear import assemble
+    from ..load import load_assembly, match_dofs
+    from ..reduce import reduce_keep, reduce_to_depth, tie
+    path = os.fspath(path)
+    asm = load_assembly(path)
+    params = dict(asm.parameters)
+    names = tuple(names)
+    _check_names(params, names, dims)
+    pdims = tuple((n, params[n].dim) for n in params)
+    p0 = np.array([params[n].value for n in names]) if nominal is None else \
+        np.asarray(nominal, dtype=float)
+    spans = np.asarray(spans if spans is not None else 0.1 * np.abs(p0), dtype=float)
+    fm = FileModel(path, pdims, depth, tuple(keep))
+    slow = CallbackFamily(names, fm, p0)
+    full = assemble(asm)
+    fam = affine_family(fm.unreduced, names, p0, spans, full.dofs)
+    if fam is None:
+        return slow
+    if depth or keep:
+        if depth:
+            if depth not in asm.depths:
+                known = ", ".join(asm.depths) or "none in this file"
+                raise InputError(f'unknown depth "{depth}" (depths: {known})',
+                                 Where(field="--depth"))
+            d = asm.depths[depth]
+            reduced = reduce_to_depth(full, d)
+            patterns, ties = d.keep, d.tie
+        else:
+            reduced = reduce_keep(full, list(keep))
+            patterns, ties = tuple(keep), ()
+        tied = tie(full, ties)
+        T = np.eye(full.n) if tied.parent is None else tied.expansion.toarray()
+        mset = {x for p in patterns for x in match_dofs(p, tied.dofs)}
+        masters = np.array([i for i, x in enumerate(tied.dofs) if x in mset], dtype=int)
+        fam = AffineFamily(names, fam.nominal, fam.K0, fam.dK, fam.M0, fam.dM,
+                           reduced.dofs, (T, masters))
+        Kr, Mr = fam.matrices(p0[None, :])
+        want_K, want_M = reduced.K.toarray(), reduced.M.toarray()
+        for got, want in ((Kr[0], want_K), (Mr[0], want_M)):
+            if got.shape != want.shape or not np.allclose(
+                    got, want, rtol=1e-9, atol=1e-9 * float(np.max(np.abs(want)))):
+                return slow
+    return fam
+
+
+def file_sensitivities(path: str | os.PathLike[str], names: Sequence[str] | None = None,
+                       depth: str | None = None, keep: Sequence[str] = (),
+                       rel_step: float = 1e-6) -> FrequencySensitivities:
+    """df/dp of every mode of a file's model with respect to its parameters
+    (default: all of them), at the file's values.
+
+    dK/dp and dM/dp come from central differences of the assembled matrices
+    (step ``rel_step`` of each value); the frequency derivative is then the
+    eigenvalue-derivative formula of :mod:`.sensitivity`.
+    """
+    params = file_parameters(path)
+    names = tuple(names) if names is not None else tuple(params)
+    _check_names(params, names)
+    fm = FileModel(os.fspath(path), tuple((n, params[n].dim) for n in params), depth,
+                   tuple(keep))
+    p0 = {n: params[n].value for n in names}
+    K0, M0 = fm(p0)
+    dKs, dMs = [], []
+    for n in names:
+        h = rel_step * (abs(p0[n]) if p0[n] != 0 else 1.0)
+        Kp, Mp = fm({**p0, n: p0[n] + h})
+        Km, Mm = fm({**p0, n: p0[n] - h})
+        if Kp.shape != K0.shape or Km.shape != K0.shape:
+            raise InputError(f'changing "{n}" changes the model\'s DOFs', Where(field="--vary"))
+        dKs.append((Kp - Km) / (2 * h))
+        dMs.append((Mp - Mm) / (2 * h))
+    return frequency_sensitivities(K0, M0, dKs, dMs, names, [p0[n] for n in names])
+
+
+@dataclass(frozen=True)
+class FileRide:
+    """Ride figures of sensors on an ISO 8608 road, per variant of a file.
+
+    Returns ``{SENSOR_rms: ..., SENSOR_weighted_rms: ...}`` (the weighted one
+    for acceleration sensors), SI units of each sensor.
+    """
+
+    model: FileModel
+    sensors: tuple[str, ...]
+    road_class: str
+    speed_m_s: float
+    points: int = 400
+
+    def columns(self) -> tuple[str, ...]:
+        """Result column names, given the sensors' measures in the nominal file."""
+        from ..load import load_assembly
+        asm = load_assembly(self.model.path)
+        cols: list[str] = []
+        for s in self.sensors:
+            if s not in asm.sensors:
+                known = ", ".join(asm.sensors) or "none"
+                raise InputError(f'unknown sensor "{s}" (sensors: {known})',
+                                 Where(field="--result"))
+            cols.append(f"{s}_rms")
+            if asm.sensors[s].measure == "acceleration":
+                cols.append(f"{s}_weighted_rms")
+        return tuple(cols)
+
+    def __call__(self, values: Mapping[str, float]) -> dict[str, float]:
+        from ..analysis.ride import ride_response
+        model = self.model.model(values)
+        res = ride_response(model, self.road_class, self.speed_m_s, points=self.points,
+                            sensors=list(self.sensors))
+        out: dict[str, float] = {}
+        for s in self.sensors:
+            r = res.sensors[s]
+            out[f"{s}_rms"] = float(r.rms)
+            if r.weighted_rms is not None:
+                out[f"{s}_weighted_rms"] = float(r.weighted_rms)
+        return out

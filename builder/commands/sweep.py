@@ -1,0 +1,267 @@
+"""``lumpgraph sweep FILE --vary NAME=LOW..HIGH:COUNT ... [options]``.
+
+Sweeps the file's ``parameters:`` over a grid (several ``--vary``), a Latin
+hypercube (``--lhs N``) or Monte Carlo scatter (``--scatter``, ``--samples``,
+``--seed``), and reports tracked natural frequencies (``--result modes``,
+the default) or ride figures of sensors (``--result ride:SENSOR`` with
+``--road`` and ``--speed``). ``--csv`` writes the table as it goes
+(``--resume`` continues an interrupted one), ``--plot`` draws tracked
+frequencies against the last varied parameter (or histograms for random
+designs). ``--workers N`` uses local processes, ``--cluster tcp://HOST:PORT``
+a Dask scheduler. Two other uses of the same options:
+
+- ``--sensitivity``: the ranked table of df/dp of every mode with respect to
+  the ``--vary`` parameters (all file parameters when none is given);
+- ``--target MODE=FREQ`` (repeatable, e.g. ``--target 1=1.2Hz``) or
+  ``--minimise ride:SENSOR``: parameter values within the ``--vary`` ranges
+  (COUNT not needed) that meet the targets, and the values achieved.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from typing import Any
+
+from ..errors import InputError, Where
+from ._common import add_model_options, print_json
+
+HELP = "sweeps, scatter, sensitivities and targets over file parameters"
+
+_UNITS = {"stiffness": "N/m", "mass": "kg", "length": "m", "damping": "N s/m",
+          "inertia": "kg m^2", "rotational_stiffness": "N m/rad",
+          "rotational_damping": "N m s/rad", "force": "N", "speed": "m/s", "time": "s",
+          "frequency": "Hz", "pressure": "Pa", "area": "m^2", "flexural_rigidity": "N m^2",
+          "density": "kg/m^3", "dimensionless": "-"}
+
+
+def configure(parser: argparse.ArgumentParser) -> None:
+    add_model_options(parser)
+    parser.add_argument("--vary", action="append", default=[], metavar="NAME=LOW..HIGH:COUNT",
+                        help="sweep a file parameter, e.g. ks_front=15kN/m..30kN/m:16 "
+                        "(repeatable: full grid)")
+    parser.add_argument("--lhs", type=int, default=None, metavar="N",
+                        help="a Latin hypercube of N variants over the --vary ranges")
+    parser.add_argument("--scatter", action="append", default=[], metavar="NAME=DIST",
+                        help="Monte Carlo scatter: NAME=normal:MEAN,SD (SD may be 5%%) or "
+                        "NAME=uniform:LOW,HIGH (repeatable)")
+    parser.add_argument("--samples", type=int, default=None, metavar="N",
+                        help="number of Monte Carlo samples")
+    parser.add_argument("--seed", type=int, default=0, metavar="S",
+                        help="seed of every random draw (default 0)")
+    parser.add_argument("--result", action="append", default=None, metavar="WHAT",
+                        help="modes (default) or ride:SENSOR (repeatable)")
+    parser.add_argument("--modes", type=int, default=None, metavar="N",
+                        help="number of tracked modes to report (default all, at most 12)")
+    parser.add_argument("--road", default=None, metavar="CLASS",
+                        help="ISO 8608 road class for ride results")
+    parser.add_argument("--speed", default=None, metavar="V",
+                        help='speed for ride results, e.g. "80 km/h"')
+    parser.add_argument("--csv", default=None, metavar="OUT.csv",
+                        help="write the table: a header row, then one row per variant")
+    parser.add_argument("--resume", action="store_true",
+                        help="keep the rows already in --csv and solve only the rest")
+    parser.add_argument("--plot", default=None, metavar="OUT.png",
+                        help="tracked frequencies against a parameter, or histograms")
+    parser.add_argument("--plot-against", default=None, metavar="NAME",
+                        help="parameter on the plot's x axis (default the last --vary)")
+    parser.add_argument("--json", action="store_true", help="print the result as JSON")
+    where = parser.add_mutually_exclusive_group()
+    where.add_argument("--workers", type=int, default=None, metavar="N",
+                       help="run on N local processes")
+    where.add_argument("--cluster", default=None, metavar="ADDRESS",
+                       help="run on a Dask scheduler, e.g. tcp://10.0.0.5:8786")
+    parser.add_argument("--chunk", type=int, default=None, metavar="N",
+                        help="variants per task (default 500)")
+    parser.add_argument("--no-progress", action="store_true", help="no progress bar")
+    parser.add_argument("--sensitivity", action="store_true",
+                        help="print the ranked frequency sensitivities instead of sweeping")
+    parser.add_argument("--target", action="append", default=[], metavar="MODE=FREQ",
+                        help="find --vary values that put mode MODE at FREQ (e.g. 1=1.2Hz)")
+    parser.add_argument("--minimise", "--minimize", default=None, metavar="ride:SENSOR",
+                        help="find --vary values that minimise a sensor's ride RMS")
+
+
+def _unit(dim: tuple[int, int, int]) -> str:
+    from ..quantities import DIMENSIONS
+    for name, (d, _noun) in DIMENSIONS.items():
+        if d == dim and name in _UNITS:
+            return _UNITS[name]
+    return "SI"
+
+
+def _keep(args: argparse.Namespace) -> tuple[str, ...]:
+    return tuple(k.strip() for k in (args.keep or "").split(",") if k.strip())
+
+
+def _ride_sensors(results: list[str], option: str) -> list[str]:
+    out = []
+    for r in results:
+        kind, _, sensor = r.partition(":")
+        if kind.strip() != "ride" or not sensor.strip():
+            raise InputError(f'expected "modes" or "ride:SENSOR", got "{r}"', Where(field=option))
+        out.append(sensor.strip())
+    return out
+
+
+def _speed(args: argparse.Namespace) -> tuple[str, float]:
+    from ..analysis import road
+    from ..quantities import to_si
+    if args.road is None or args.speed is None:
+        raise InputError("ride results need --road CLASS and --speed V", Where(field="--road"))
+    road.class_value(args.road)
+    return args.road.strip().upper(), road.check_speed(to_si(args.speed, "speed",
+                                                             Where(field="--speed"),
+                                                             sign="positive"))
+
+
+def _check_count(args: argparse.Namespace, option: str, value: int | None) -> None:
+    if value is not None and value < 1:
+        raise InputError(f"must be at least 1, got {value}", Where(field=option))
+
+
+def run(args: argparse.Namespace) -> int:
+    from ..analysis import sampling
+    from ..analysis import sweep as sw
+    from ..io import output_path
+
+    for opt in ("workers", "chunk", "modes"):
+        _check_count(args, f"--{opt}", getattr(args, opt))
+    if args.csv:
+        output_path(args.csv, (".csv",), "--csv")
+    if args.plot:
+        output_path(args.plot, (".png",), "--plot")
+    if args.resume and not args.csv:
+        raise InputError("--resume continues the file given by --csv", Where(field="--resume"))
+    keep = _keep(args)
+    params = sw.file_parameters(args.file)
+
+    if args.sensitivity:
+        names = [sampling.parse_vary(v, need_count=False).name for v in args.vary] or None
+        sens = sw.file_sensitivities(args.file, names, args.depth, keep)
+        if args.json:
+            print_json(sens)
+        else:
+            print(sens.table(modes=range(1, min(len(sens.frequencies_hz), args.modes or 12) + 1)))
+        return 0
+
+    if args.target or args.minimise:
+        return _targets(args, params, keep)
+
+    specs = [sampling.parse_vary(v, need_count=args.lhs is None) for v in args.vary]
+    scatter = [sampling.parse_scatter(s) for s in args.scatter]
+    names = [s.name for s in specs] + [s.name for s in scatter]
+    sw._check_names(params, names, [s.dim for s in specs] + [s.dim for s in scatter])
+    design = sampling.build_design(specs, scatter, args.lhs, args.samples, args.seed,
+                                   base={n: params[n].value for n in names})
+    units = tuple(_unit(params[n].dim) for n in design.names)
+    results = args.result or ["modes"]
+    if "modes" in results:
+        if len(results) > 1:
+            raise InputError("sweep either modes or ride results, not both in one run",
+                             Where(field="--result"))
+        spans = [s.high - s.low for s in specs] + [
+            6 * s.b if s.kind == "normal" else s.b - s.a for s in scatter]
+        family = sw.file_family(args.file, design.names, design.nominal, spans, args.depth,
+                                keep)
+        n = family.matrices(design.nominal[None, :])[0].shape[-1]
+        problem: Any = sw.ModesProblem(family, min(args.modes or min(n, 12), n))
+        path = "batched (matrices reused)" if isinstance(family, sw.AffineFamily) else \
+            "each variant rebuilt from the file"
+    else:
+        road_class, speed = _speed(args)
+        fm = sw.FileModel(args.file, tuple((k, q.dim) for k, q in params.items()), args.depth,
+                          keep)
+        ride = sw.FileRide(fm, tuple(_ride_sensors(results, "--result")), road_class, speed)
+        problem = sw.FunctionProblem(design.names, ride, ride.columns())
+        path = "each variant rebuilt from the file"
+    progress = not args.no_progress and sys.stderr.isatty() and len(design) > 1
+    try:
+        result = sw.run_sweep(problem, design, workers=args.workers, cluster=args.cluster,
+                              chunk_size=args.chunk or sw.DEFAULT_CHUNK, csv_path=args.csv,
+                              resume=args.resume, progress=progress, units=units)
+    except KeyboardInterrupt:
+        if args.csv:
+            print(f"lumpgraph: interrupted; the finished variants are in {args.csv}, "
+                  "--resume continues", file=sys.stderr)
+        raise
+    if args.plot:
+        if args.plot_against and args.plot_against not in design.names:
+            raise InputError(f'"{args.plot_against}" is not a swept parameter',
+                             Where(field="--plot-against"))
+        result.plot(args.plot, args.plot_against)
+    if args.json:
+        print_json(result)
+        return 0
+    print(f"{len(design)} variants ({design.kind}) of {args.file}: {path}")
+    _print_table(result)
+    if args.csv:
+        print(f"table written to {args.csv}")
+    if args.plot:
+        print(f"plot written to {args.plot}")
+    return 0
+
+
+def _print_table(result: Any) -> None:
+    import numpy as np
+    heads = [f"{n} ({u})" if u else n for n, u in zip(result.names, result.units or
+                                                         [""] * len(result.names),
+                                                         strict=True)]
+    cols = list(result.columns)
+    if len(result) <= 40:
+        print("  ".join(f"{h:>14}" for h in [*heads, *cols]))
+        for i in range(len(result)):
+            row = [*result.values[i], *result.results[i]]
+            print("  ".join(f"{v:>14.6g}" for v in row))
+        return
+    print(f"{'column':>22} {'min':>12} {'mean':>12} {'sd':>12} {'max':>12}")
+    for name, v in [*zip(heads, result.values.T, strict=True),
+                    *zip(cols, result.results.T, strict=True)]:
+        v = v[np.isfinite(v)]
+        if v.size:
+            sd = v.std(ddof=1) if v.size > 1 else 0.0
+            print(f"{name:>22} {v.min():>12.6g} {v.mean():>12.6g} {sd:>12.4g} {v.max():>12.6g}")
+
+
+def _targets(args: argparse.Namespace, params: dict, keep: tuple[str, ...]) -> int:
+    from ..analysis import sampling
+    from ..analysis import sweep as sw
+    from ..quantities import to_si
+    if not args.vary:
+        raise InputError("give the parameters to adjust and their bounds with "
+                         "--vary NAME=LOW..HIGH", Where(field="--target"))
+    specs = [sampling.parse_vary(v, need_count=False) for v in args.vary]
+    names = [s.name for s in specs]
+    sw._check_names(params, names, [s.dim for s in specs])
+    bounds = {s.name: (min(s.low, s.high), max(s.low, s.high)) for s in specs}
+    nominal = [params[n].value for n in names]
+    family = sw.file_family(args.file, names, nominal, [b - a for a, b in bounds.values()],
+                            args.depth, keep)
+    if args.target and args.minimise:
+        raise InputError("give --target or --minimise, not both", Where(field="--minimise"))
+    if args.target:
+        targets: dict[int, float] = {}
+        for t in args.target:
+            mode, eq, freq = t.partition("=")
+            if not eq or not mode.strip().isdigit():
+                raise InputError(f'expected MODE=FREQ (e.g. 1=1.2Hz), got "{t}"',
+                                 Where(field="--target"))
+            targets[int(mode)] = to_si(freq.strip(), "frequency", Where(field="--target"),
+                                       sign="positive")
+        res = sw.find_parameters(family, bounds, targets=targets)
+    else:
+        [sensor] = _ride_sensors([args.minimise], "--minimise")
+        road_class, speed = _speed(args)
+        fm = sw.FileModel(args.file, tuple((k, q.dim) for k, q in params.items()), args.depth,
+                          keep)
+        ride = sw.FileRide(fm, (sensor,), road_class, speed)
+        col = ride.columns()[-1]
+
+        def objective(p: dict) -> float:
+            return ride(p)[col]
+        res = sw.find_parameters(family, bounds, objective=objective)
+    if args.json:
+        print_json(res)
+    else:
+        print(res.text())
+    return 0
