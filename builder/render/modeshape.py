@@ -235,13 +235,16 @@ def parse_size(text: str | Sequence[int] | None, default: tuple[int, int]) -> tu
 class ModeRenderer:
     """One off-screen plotter holding a scene, redrawn for any mode, view and phase.
 
+    Stills are multisampled (smooth edges); ``anti_aliasing=False`` renders
+    about three times faster on a CPU renderer and suits animation frames.
+
     >>> with ModeRenderer(scene, (800, 600)) as r:   # doctest: +SKIP
     ...     image = r.draw(field, "Mode 1", "side", phase=0.0)
     """
 
     def __init__(self, scene: Scene, size: tuple[int, int] = (1024, 768), *,
                  scale: float = DEFAULT_SCALE, scalar_bar: bool = True, ghost: bool = True,
-                 font_size: int | None = None):
+                 font_size: int | None = None, anti_aliasing: bool = True):
         if not scale >= 0 or not math.isfinite(scale):
             raise InputError(f"--scale: expected a fraction >= 0, got {scale!r}")
         pv = import_pyvista()
@@ -249,6 +252,8 @@ class ModeRenderer:
         self.size = (int(size[0]), int(size[1]))
         self.scale = float(scale)
         self.plotter = pv.Plotter(off_screen=True, window_size=self.size)
+        if not anti_aliasing:    # multisampling triples the CPU render time of a frame
+            self.plotter.disable_anti_aliasing()
         self.plotter.set_background(PALETTE["background_bottom"], top=PALETTE["background_top"])
         self._meshes: list[Any] = []
         self._base: list[NDArray] = []
@@ -438,7 +443,7 @@ def save_mode_animation(scene: Scene, dofs: Sequence[str], mode: Any,
         raise InputError(f"--frames: need at least 2 frames, got {frames}")
     field, title, view = _mode_inputs(scene, dofs, mode, view)
     images = []
-    with ModeRenderer(scene, size, scale=scale) as renderer:
+    with ModeRenderer(scene, size, scale=scale, anti_aliasing=False) as renderer:
         renderer.set_mode(field, title)
         renderer.set_view(view)
         for k in range(frames):
