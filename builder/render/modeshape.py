@@ -237,6 +237,8 @@ class ModeRenderer:
 
     Stills are multisampled (smooth edges); ``anti_aliasing=False`` renders
     about three times faster on a CPU renderer and suits animation frames.
+    ``plain=True`` draws the parts in their own colours (for the undeformed
+    scene) instead of by amplitude.
 
     >>> with ModeRenderer(scene, (800, 600)) as r:   # doctest: +SKIP
     ...     image = r.draw(field, "Mode 1", "side", phase=0.0)
@@ -244,7 +246,8 @@ class ModeRenderer:
 
     def __init__(self, scene: Scene, size: tuple[int, int] = (1024, 768), *,
                  scale: float = DEFAULT_SCALE, scalar_bar: bool = True, ghost: bool = True,
-                 font_size: int | None = None, anti_aliasing: bool = True):
+                 font_size: int | None = None, anti_aliasing: bool = True,
+                 plain: bool = False):
         if not scale >= 0 or not math.isfinite(scale):
             raise InputError(f"--scale: expected a fraction >= 0, got {scale!r}")
         pv = import_pyvista()
@@ -267,7 +270,10 @@ class ModeRenderer:
         bar_done = False
         for part in scene.parts:
             mesh = part.mesh.copy(deep=True)
-            if part.moving:
+            if part.moving and plain:    # the undeformed scene in the parts' own colours
+                self.plotter.add_mesh(mesh, color=part.color, opacity=part.opacity,
+                                      ambient=0.2, specular=0.1)
+            elif part.moving:
                 mesh.point_data["amplitude"] = np.zeros(mesh.n_points)
                 self.plotter.add_mesh(
                     mesh, scalars="amplitude", cmap=lut, clim=(0.0, 1.0), smooth_shading=False,
@@ -337,7 +343,7 @@ class ModeRenderer:
         """Show ``field`` (None: the undeformed scene) with ``title`` above it."""
         self._field = field
         for k, part in enumerate(self.scene.parts):
-            if part.moving:
+            if part.moving and "amplitude" in self._meshes[k].point_data:
                 amp = None if field is None else field.amplitude[k]
                 data = self._meshes[k].point_data["amplitude"]
                 data[:] = 0.0 if amp is None else amp

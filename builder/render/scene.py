@@ -347,7 +347,7 @@ def _axes_parts(pv, origin: NDArray, length: float) -> list[Part]:
         arrow = pv.Arrow(start=origin, direction=direction, scale=length, tip_length=0.25,
                          tip_radius=0.08, shaft_radius=0.025)
         text = pv.Text3D(label, depth=0.02)
-        text.points = text.points * (0.25 * length)
+        text.points = text.points * (0.4 * length)
         tip = origin + 1.12 * length * np.asarray(direction, float)
         text.translate(tip - np.asarray(text.center), inplace=True)
         if label != "z":      # lay the letters on the ground plane so they read from above
