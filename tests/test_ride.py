@@ -54,6 +54,7 @@ links:
   tyre_r: {type: spring, a: wheel_r, b: road.r, axis: z, stiffness: 190 kN/m}
 sensors:
   seat: {body: body, at: [-1.5, 0, 0.6], measure: acceleration, direction: z}
+  seat_x: {body: body, at: [-1.5, 0, 0.6], measure: acceleration, direction: x}
   pitch: {body: body, measure: acceleration, direction: ry}
   travel_f: {link: susp_f, measure: deflection}
   tyre_f: {link: tyre_f, measure: force}
@@ -160,6 +161,20 @@ def test_half_car_rms_against_direct_integration(tmp_path):
     assert result.sensors["pitch"].weighting == "We"
     assert result.sensors["pitch"].unit == "rad/s^2"
     assert result.sensors["seat"].weighting == "Wk"
+    # Analytic: the seat is 0.1 m above the cg, so its fore-aft acceleration is
+    # 0.1 times the pitch acceleration (small rotation: u_x = ry dz); weighted by Wd.
+    seat_x = result.sensors["seat_x"]
+    assert seat_x.weighting == "Wd"
+    assert seat_x.rms == pytest.approx(0.1 * rms(1), rel=2e-3)
+    assert seat_x.weighted_rms == pytest.approx(0.1 * rms(1, "Wd"), rel=2e-3)
+    # ISO 2631-1 clauses 8.2.2 and 7.2.3 (from memory): comfort multipliers 1, 1, 1;
+    # health 1.4 on x and y; the vector sum is checked by hand.
+    (point,) = result.points
+    assert point.sensors == {"z": "seat", "x": "seat_x"}
+    assert point.vector_sum == pytest.approx(math.hypot(rms(0, "Wk"), 0.1 * rms(1, "Wd")),
+                                             rel=2e-3)
+    assert point.vector_sum_health == pytest.approx(
+        math.hypot(rms(0, "Wk"), 1.4 * 0.1 * rms(1, "Wd")), rel=2e-3)
     # one track: identical and independent tracks are the same road
     other = ride_response(model, "C", v, band=band, points=8000, tracks="independent")
     assert other.sensors["seat"].rms == pytest.approx(result.sensors["seat"].rms, rel=1e-12)

@@ -61,7 +61,7 @@ __all__ = [
     "WeightingParameters", "ComfortEvaluation",
     "weighting", "weighting_magnitude", "weighting_for_direction",
     "weighted_rms_from_psd", "weighted_time_history", "weighted_rms_from_time",
-    "vdv", "crest_factor", "vector_sum", "comfort_reactions", "evaluate_comfort",
+    "vdv", "estimated_vdv", "crest_factor", "vector_sum", "comfort_reactions", "evaluate_comfort",
 ]
 
 CAUTION = (
@@ -291,6 +291,19 @@ def vdv(t: ArrayLike, a: ArrayLike, name: str | None = None, method: str = "iir"
     aw = np.asarray(a, dtype=float) if name is None else weighted_time_history(tt, a, name, method)
     dt = _sample_interval(tt)
     return float(np.sum(aw**4) * dt) ** 0.25
+
+
+def estimated_vdv(aw: float, duration_s: float) -> float:
+    """Estimated vibration dose value ``1.4 a_w T^(1/4)`` (m/s^1.75) of ISO 2631-1 clause 6.3.
+
+    For a steady random signal of weighted RMS ``aw`` (m/s^2) lasting
+    ``duration_s`` (s); the factor 1.4 is the standard's (from memory). A
+    Gaussian signal gives ``3^(1/4) = 1.32`` in place of 1.4.
+    """
+    if not duration_s >= 0:
+        raise InputError(f"duration must be non-negative, not {duration_s!r} s",
+                         Where(field="duration"))
+    return 1.4 * float(aw) * float(duration_s) ** 0.25
 
 
 def crest_factor(aw: ArrayLike) -> float:

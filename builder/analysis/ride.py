@@ -20,7 +20,9 @@ Per sensor the result carries:
 - acceleration sensors: the weighted RMS with the comfort weighting of
   their direction (z -> Wk, x and y -> Wd, rx ry rz -> We; a sensor along a
   general vector takes the weighting of its largest component), and the
-  comfort reactions of ISO 2631-1 Annex C for translational ones;
+  comfort reactions of ISO 2631-1 Annex C for translational ones; sensors
+  along two or three of x, y, z at one body point are also combined into the
+  vector sum with the seated comfort multipliers (:class:`ComfortPoint`);
 - deflection sensors: the RMS suspension travel (m or rad);
 - force sensors: the static force under 1 g (from the model's static
   response) and, when the link has an end on a road point, the dynamic tyre
@@ -46,7 +48,8 @@ from ..errors import InputError, Where
 from . import comfort, road
 
 __all__ = [
-    "DEFAULT_BAND", "DEFAULT_POINTS", "SensorRide", "RideResult", "ride_response",
+    "DEFAULT_BAND", "DEFAULT_POINTS", "SensorRide", "ComfortPoint", "RideResult",
+    "ride_response",
     "road_frequency_response", "response_psd", "frequency_grid", "sensor_weighting",
 ]
 
@@ -184,6 +187,55 @@ class SensorRide:
 
 
 @dataclass(frozen=True, eq=False)
+class ComfortPoint:
+    """Acceleration sensors along x, y, z at one body point, combined for comfort.
+
+    ``vector_sum`` uses the seated comfort multipliers on the seat surface
+    (1, 1, 1, ISO 2631-1 clause 8.2.2); ``vector_sum_health`` the health ones
+    (1.4, 1.4, 1.0, clause 7.2.3), for reference.
+    """
+
+    body: str
+    at: tuple[float, float, float]
+    sensors: dict[str, str]            # axis -> sensor name
+    weighted_rms: dict[str, float]     # axis -> m/s^2
+    vector_sum: float
+    vector_sum_health: float
+    reactions: tuple[str, ...]
+
+    def to_dict(self) -> dict:
+        """JSON-ready figures."""
+        return {"body": self.body, "at": list(self.at), "sensors": dict(self.sensors),
+                "weighted_rms": dict(self.weighted_rms), "vector_sum": self.vector_sum,
+                "vector_sum_health": self.vector_sum_health, "comfort": list(self.reactions)}
+
+
+def _comfort_points(sensors: dict[str, SensorRide], asm: Any) -> tuple[ComfortPoint, ...]:
+    """Group translational acceleration sensors by body point (two or more axes)."""
+    if asm is None:
+        return ()
+    groups: dict[tuple, dict[str, str]] = {}
+    for name, s in sensors.items():
+        info = asm.sensors.get(name)
+        axis = getattr(info, "axis_name", "")
+        if s.weighted_rms is None or info is None or axis not in ("x", "y", "z"):
+            continue
+        key = (info.target, *np.round(np.asarray(info.at, dtype=float), 4).tolist())
+        groups.setdefault(key, {}).setdefault(axis, name)
+    out = []
+    for (body, *at), axes in groups.items():
+        if len(axes) < 2:
+            continue
+        values = {axis: float(sensors[name].weighted_rms) for axis, name in axes.items()}
+        xyz = [values.get(a, 0.0) for a in ("x", "y", "z")]
+        total = comfort.vector_sum(*xyz, *comfort.COMFORT_SEAT)
+        out.append(ComfortPoint(body, tuple(at), dict(axes), values, total,
+                                comfort.vector_sum(*xyz, *comfort.HEALTH_SEAT),
+                                tuple(comfort.comfort_reactions(total))))
+    return tuple(out)
+
+
+@dataclass(frozen=True, eq=False)
 class RideResult:
     """Response of every sensor to an ISO 8608 road at one speed."""
 
@@ -196,6 +248,7 @@ class RideResult:
     model_name: str = ""
     caution: str = comfort.CAUTION
     notes: tuple[str, ...] = field(default_factory=tuple)
+    points: tuple[ComfortPoint, ...] = ()
 
     def to_dict(self, psd: bool = False) -> dict:
         """JSON-ready result; ``psd=True`` adds the grid and every sensor's PSD."""
@@ -210,6 +263,8 @@ class RideResult:
             "sensors": {name: s.to_dict() for name, s in self.sensors.items()},
             "caution": self.caution,
         }
+        if self.points:
+            out["comfort_points"] = [p.to_dict() for p in self.points]
         if self.notes:
             out["notes"] = list(self.notes)
         if psd:
@@ -240,6 +295,12 @@ class RideResult:
                     extra += f", dynamic load ratio {s.dynamic_load_ratio:.3f}"
             lines.append(f"{s.name:<20} {s.measure:<13} {s.rms:>11.4g} {s.unit:<8} "
                          f"{weighted:>16}  {extra}".rstrip())
+        for p in self.points:
+            at = ", ".join(f"{c:g}" for c in p.at)
+            axes = ", ".join(f"{a} {p.weighted_rms[a]:.3g}" for a in p.weighted_rms)
+            lines.append(f"vector sum at {p.body} [{at}] m ({axes}): {p.vector_sum:.3g} m/s^2 "
+                         f"comfort ({', '.join(p.reactions)}); {p.vector_sum_health:.3g} "
+                         "with the health multipliers 1.4, 1.4, 1")
         lines += [""] + [f"note: {n}" for n in self.notes] + [self.caution]
         return "\n".join(lines)
 
@@ -377,4 +438,5 @@ def ride_response(model: Any, road_class: str, speed_m_s: float, *, waviness: fl
                 kwargs["dynamic_load_ratio"] = rms / load if load > 0 else math.inf
         out[name] = SensorRide(name, unit, measure, psd[:, i], rms, **kwargs)
     return RideResult(road_class, v, float(waviness), tracks, f, out,
-                      model_name=getattr(model, "name", ""), notes=tuple(notes))
+                      model_name=getattr(model, "name", ""), notes=tuple(notes),
+                      points=_comfort_points(out, asm))
