@@ -94,10 +94,10 @@ def run_case(segments: int, dense: bool) -> dict:
 
 def run_plugin_case(segments: int) -> dict:
     """The same beam built by the split_body plugin and the core assembler."""
-    from plugins.split_body.plugin import split_chain_assembly  # optional (part 2)
-    t0 = time.perf_counter()
-    asm = split_chain_assembly(segments, LENGTH, RHO_A, RHO_IP, **SECTION)
     from builder.linear import assemble
+    from plugins.split_body.split import uniform_bar
+    t0 = time.perf_counter()
+    asm = uniform_bar(segments, LENGTH, RHO_A, RHO_IP, SECTION)
     model = assemble(asm)
     t1 = time.perf_counter()
     lam, x = lowest_modes(model.K, model.M, 20)

@@ -275,3 +275,30 @@ def test_sensors_and_links_stay_consistent_after_assembly():
     assert model.sensors == tuple(split.sensors)
     assert split.sensors["nose"].target == "body_s05"
     assert split.links["tow"].a.node == "body_s01"
+
+
+def test_labels_name_bending_and_torsion_in_the_analytic_order():
+    # The free-free bar's elastic modes, labelled by the chain labeller, come in
+    # the order of the analytic frequencies (Euler-Bernoulli bending in the two
+    # planes, beta L = 4.7300, 7.8532, 10.9956; free-free shaft torsion
+    # n pi/L sqrt(GJ/rho Ip)).
+    from plugins.split_body.labels import flexible_body_label
+    from plugins.split_body.split import uniform_bar
+    L, rho_a, rho_ip = 3.0, 20.0, 3e-4
+    EIy, EIz, GJ = 4.0e4, 6.0e4, 30.0
+    asm = uniform_bar(60, L, rho_a, rho_ip, {"EA": 1e9, "EIy": EIy, "EIz": EIz, "GJ": GJ})
+    model = assemble(asm)
+    lam, x = lowest_modes(model.K, model.M, 14)
+    expected = []
+    for order, bl in ((1, 4.7300), (2, 7.8532), (3, 10.9956)):
+        word = ("first", "second", "third")[order - 1]
+        expected.append((bl ** 2 * np.sqrt(EIy / (rho_a * L ** 4)), f"bar {word} vertical bending"))
+        expected.append((bl ** 2 * np.sqrt(EIz / (rho_a * L ** 4)), f"bar {word} lateral bending"))
+        expected.append((order * np.pi / L * np.sqrt(GJ / rho_ip), f"bar {word} torsion"))
+    expected = [label for _, label in sorted(expected)][:6]
+    energy = x * (model.M @ x)
+    labels = [flexible_body_label(model, x[:, i], energy[:, i]) for i in range(6, 12)]
+    assert labels == expected
+    # The six rigid-body modes are named as motions of the bar as a whole.
+    rigid = {flexible_body_label(model, x[:, i], energy[:, i]) for i in range(6)}
+    assert rigid <= {f"bar {w}" for w in ("fore-aft", "lateral", "bounce", "roll", "pitch", "yaw")}

@@ -35,7 +35,7 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import Where
+from ..errors import InputError, Where
 from ..quantities import Quantity
 from ..yamlnodes import Node
 from . import ElementMatrices, parse_axis, register_link_type
@@ -75,8 +75,11 @@ def beam_props(pa: np.ndarray, pb: np.ndarray, EA: float, EIy: float, EIz: float
              "shear_z": None if shear_z is None else float(shear_z),
              "loss_factor": float(loss_factor)}
     # Validate now (points, frame, positivity) so that errors carry the place.
-    beam_global_stiffness(pa, pb, hint, props["EA"], props["EIy"], props["EIz"], props["GJ"],
-                          props["shear_y"], props["shear_z"], where)
+    beam_rotation(pa, pb, hint, where)
+    for key in ("EA", "EIy", "EIz", "GJ", "shear_y", "shear_z"):
+        v = props[key]
+        if v is not None and not (np.isfinite(v) and v > 0):
+            raise InputError(f"{key} must be a positive finite number, got {v!r}", where)
     return props
 
 

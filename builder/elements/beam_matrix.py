@@ -135,7 +135,8 @@ def beam_rotation(pa: np.ndarray, pb: np.ndarray, z_hint: np.ndarray,
         raise InputError("beam frame z is parallel to the beam axis; give a section axis "
                          "across the beam", where)
     z = z / z_norm
-    y = np.cross(z, x)
+    y = np.array([z[1] * x[2] - z[2] * x[1], z[2] * x[0] - z[0] * x[2],
+                  z[0] * x[1] - z[1] * x[0]])             # z cross x
     return np.vstack([x, y, z])
 
 
@@ -153,8 +154,6 @@ def beam_global_stiffness(pa: np.ndarray, pb: np.ndarray, z_hint: np.ndarray,
     r = beam_rotation(pa, pb, z_hint, where)
     length = float(np.linalg.norm(np.asarray(pb, dtype=float) - np.asarray(pa, dtype=float)))
     k_local = beam_local_stiffness(length, EA, EIy, EIz, GJ, shear_y, shear_z, where)
-    t = np.zeros((12, 12))
-    for i in range(4):
-        t[3 * i:3 * i + 3, 3 * i:3 * i + 3] = r
-    k = t.T @ k_local @ t
+    # R^T K R on each 3x3 block of the four (translation, rotation) triples.
+    k = np.einsum("ai,AaBb,bj->AiBj", r, k_local.reshape(4, 3, 4, 3), r).reshape(12, 12)
     return 0.5 * (k + k.T)

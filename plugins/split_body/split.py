@@ -56,7 +56,7 @@ from builder.errors import InputError, Where
 from builder.kinematics import DOF_NAMES
 
 __all__ = ["SplitSpec", "SectionTable", "split_body", "segment_names", "SplitLayout",
-           "layout"]
+           "layout", "uniform_bar"]
 
 SECTION_KEYS = ("EA", "EIy", "EIz", "GJ", "shear_y", "shear_z")
 
@@ -305,3 +305,24 @@ def _check_mass_properties(body: Body, segments: list[Body], where: Where) -> No
             or np.abs(inertia - body.inertia).max() > 1e-9 * scale):
         raise InputError(f'split of body "{body.name}" does not keep its mass properties '
                          "(internal error)", where)
+
+
+def uniform_bar(segments: int, length: float, mass_per_length: float,
+                polar_inertia_per_length: float, section: Mapping[str, float | None],
+                name: str = "bar") -> Assembly:
+    """A free-free uniform bar along x from 0 to ``length`` (m), split into segments.
+
+    One rigid body of mass ``mass_per_length * length`` (kg/m, m), section
+    rotary inertia ``polar_inertia_per_length`` (kg m, shared equally by the
+    two transverse axes, as for a round or square section) and the thin-rod
+    inertia m L^2/12, then split into ``segments`` equal segments joined by
+    beams of the given ``section`` (EA, EIy, EIz, GJ in N, N m^2). Used by
+    the benchmark and tests as the textbook free-free beam.
+    """
+    m = mass_per_length * length
+    ip = polar_inertia_per_length * length
+    inertia = np.diag([ip, m * length ** 2 / 12 + ip / 2, m * length ** 2 / 12 + ip / 2])
+    bar = Body(name, m, np.array([length / 2, 0.0, 0.0]), inertia, DOF_NAMES)
+    asm = Assembly(name, "spatial", {name: bar})
+    return split_body(asm, SplitSpec(name, segments=segments, start=0.0, end=length,
+                                     section=dict(section)))
