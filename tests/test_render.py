@@ -463,3 +463,30 @@ def test_render_command_refuses_bad_options(run_cli, tmp_path, monkeypatch, args
     monkeypatch.chdir(tmp_path)
     code, _, err = run_cli("render", car, *args)
     assert code == 2 and words in err and err.count("\n") == 1
+
+
+def test_file_shapes_are_drawn_as_given():
+    # The file's own shape wins over the equivalent solid: a box of the given
+    # edge lengths (m) and an ellipsoid of the given semi-axes, about the cg.
+    text = """
+format: 1
+name: Shapes (invented data)
+motion: bounce
+bodies:
+  cab: {mass: 300 kg, cg: [0, 0, 1.0], gyradius: {x: 0.5, y: 0.6, z: 0.5},
+        shape: {box: [2.0, 1.6, 1.2]}}
+  tank: {mass: 80 kg, cg: [-2, 0, 0.8], gyradius: {x: 0.3, y: 0.3, z: 0.3},
+         shape: {ellipsoid: [0.5, 0.4, 0.3]}}
+links:
+  k1: {type: spring, a: cab, b: {body: ground, at: [0, 0, 0]}, axis: z, stiffness: 50 kN/m}
+  k2: {type: spring, a: tank, b: {body: ground, at: [-2, 0, 0]}, axis: z, stiffness: 50 kN/m}
+"""
+    scene = build_scene(load_text(text, "shapes.yaml"))
+    cab = scene.part("body:cab").mesh.bounds
+    np.testing.assert_allclose(cab, [-1.0, 1.0, -0.8, 0.8, 0.4, 1.6], atol=1e-12)
+    tank = np.array(scene.part("body:tank").mesh.bounds)
+    # Tessellated sphere: its poles reach the z semi-axis exactly, the equator
+    # comes within cos(pi / 28) of the others (28 segments around).
+    np.testing.assert_allclose(tank[4:], [0.5, 1.1], atol=1e-12)
+    slack = np.array([0.5, 0.5, 0.4, 0.4]) * (1 - np.cos(np.pi / 28)) + 1e-12
+    assert np.all(np.abs(tank[:4] - [-2.5, -1.5, -0.4, 0.4]) <= slack)
