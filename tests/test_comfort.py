@@ -7,6 +7,7 @@ import math
 import numpy as np
 import pytest
 from numpy.polynomial import Polynomial
+from scipy.integrate import trapezoid
 
 from builder.analysis import comfort
 from builder.errors import InputError
@@ -175,7 +176,7 @@ def test_weighted_rms_from_psd_matches_long_time_history():
     psd = np.full_like(f, 2 * sigma**2 / fs)
     for name in ("Wk", "Wd", "We"):
         w2 = comfort.weighting_magnitude(name, f) ** 2
-        bandwidth = np.trapezoid(w2, f) ** 2 / np.trapezoid(w2**2, f)
+        bandwidth = trapezoid(w2, f) ** 2 / trapezoid(w2**2, f)
         tolerance = 5 * 0.5 / math.sqrt(bandwidth * duration)
         from_psd = comfort.weighted_rms_from_psd(f, psd, name)
         from_time = comfort.weighted_rms_from_time(t, a, name)

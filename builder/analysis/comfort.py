@@ -52,6 +52,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
+from scipy.integrate import trapezoid as _trapezoid
 
 from ..errors import InputError, Where
 
@@ -196,7 +197,7 @@ def weighted_rms_from_psd(frequency_hz: ArrayLike, psd: ArrayLike, name: str) ->
     if f.size < 2 or np.any(np.diff(f) <= 0):
         raise InputError("frequency grid must hold at least two increasing values",
                          Where(field="frequency_hz"))
-    return float(np.sqrt(max(np.trapezoid(weighting_magnitude(name, f) ** 2 * g, f), 0.0)))
+    return float(np.sqrt(max(_trapezoid(weighting_magnitude(name, f) ** 2 * g, f), 0.0)))
 
 
 def _sample_interval(t: NDArray) -> float:

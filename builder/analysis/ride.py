@@ -43,6 +43,7 @@ from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
+from scipy.integrate import trapezoid as _trapezoid
 
 from ..errors import InputError, Where
 from . import comfort, road
@@ -142,7 +143,7 @@ def response_psd(H: NDArray, road_spectrum: NDArray) -> NDArray[np.float64]:
 
 
 def _rms(f: NDArray, psd: NDArray) -> float:
-    return float(math.sqrt(max(float(np.trapezoid(psd, f)), 0.0)))
+    return float(math.sqrt(max(float(_trapezoid(psd, f)), 0.0)))
 
 
 def sensor_weighting(sensor: Any) -> str:
