@@ -332,3 +332,50 @@ def test_craig_bampton_of_the_split_body_in_the_car():
     e = x * (model.M @ x)
     labels = [flexible_body_label(model, x[:, i], e[:, i]) for i in range(22)]
     assert "body first torsion" in labels and "body first vertical bending" in labels
+
+
+WITH_BLOCK = """
+body: body
+segments: 6
+start: -3.0 m
+end: 800 mm
+EA: 2.0e9 N
+EIy: 8 MN m^2
+EIz: 1.2e7 N m^2
+GJ: 4.3e6 N m^2
+mass: table
+mass_table:
+  - {at: -3.0 m, weight: 1.2}
+  - {at: 0.8 m, weight: 1.0}
+"""
+
+
+def _with(text):
+    from builder.yamlnodes import parse_yaml
+    from plugins.split_body.params import parse_split_spec
+    node = parse_yaml(text, "car.yaml")
+    return parse_split_spec(node.mapping(), "body", {}, node.where)
+
+
+def test_with_block_parses_units_and_tables():
+    spec = _with(WITH_BLOCK)
+    assert spec.segments == 6 and spec.end == pytest.approx(0.8)
+    assert spec.section["EIy"] == pytest.approx(8e6)
+    split = split_body(car(), spec)
+    masses = [b.mass for n, b in split.bodies.items() if n.startswith("body_s")]
+    assert masses[0] > masses[-1]          # heavier where the table says so
+    assert sum(masses) == pytest.approx(1050.0)
+
+
+@pytest.mark.parametrize("change, message", [
+    (("segments: 6", "segmnts: 6"), "unknown parameter"),
+    (("body: body\n", ""), "needs \"body\""),
+    (("EIy: 8 MN m^2\n", ""), "EIy"),
+    (("EIy: 8 MN m^2", "EIy: 8 MN"), "EIy"),
+    (("mass: table\n", "mass: lumpy\n"), "uniform, table"),
+    (("{at: 0.8 m, weight: 1.0}", "{at: -3.5 m, weight: 1.0}"), "increase"),
+])
+def test_with_block_errors_are_one_line(change, message):
+    with pytest.raises(InputError) as err:
+        _with(WITH_BLOCK.replace(*change))
+    assert message in str(err.value) and "\n" not in str(err.value)
