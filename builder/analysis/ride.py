@@ -302,7 +302,11 @@ class RideResult:
             lines.append(f"vector sum at {p.body} [{at}] m ({axes}): {p.vector_sum:.3g} m/s^2 "
                          f"comfort ({', '.join(p.reactions)}); {p.vector_sum_health:.3g} "
                          "with the health multipliers 1.4, 1.4, 1")
-        lines += [""] + [f"note: {n}" for n in self.notes] + [self.caution]
+        notes = list(self.notes)
+        if any(s.reactions for s in self.sensors.values()):
+            notes.append("weighted RMS and comfort words describe a person only at a seat or "
+                         "floor point where one sits or stands")
+        lines += [""] + [f"note: {n}" for n in notes] + [self.caution]
         return "\n".join(lines)
 
     def plot(self, path: str | None = None) -> Any:
