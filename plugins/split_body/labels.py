@@ -18,7 +18,8 @@ named after the chain (the segments' common name, ``body`` for
   ``body first torsion``, ``body second vertical bending``.
 
 A body outside the chain holding at least 20 % of the energy is added:
-``body first torsion with engine roll``.
+``body first torsion with engine roll``; when such a body leads and the chain
+holds 20 to 50 %, the body comes first: ``engine lateral with body lateral``.
 """
 
 from __future__ import annotations
@@ -86,10 +87,12 @@ def _nodes(values: np.ndarray) -> int:
 
 
 def flexible_body_label(model: Any, shape: np.ndarray, energy: np.ndarray) -> str | None:
-    """A label for a mode dominated by a beam chain, or None.
+    """A label for a mode in which a beam chain takes part, or None.
 
     ``model`` is a full (not reduced) LinearModel with its assembly; ``shape``
     and ``energy`` (kinetic-energy share per DOF) are over ``model.dofs``.
+    None when no chain holds at least 20 % of the energy (the ordinary
+    rigid-body labels then apply).
     """
     asm = getattr(model, "assembly", None)
     if asm is None:
@@ -100,31 +103,38 @@ def flexible_body_label(model: Any, shape: np.ndarray, energy: np.ndarray) -> st
     index = {d: i for i, d in enumerate(model.dofs)}
     e = np.clip(np.asarray(energy, float), 0.0, None)
     total = e.sum() or 1.0
-    best, best_share = None, 0.0
-    for name, members in chains.items():
-        share = sum(e[index[f"{m}.{d}"]] for m in members for d in asm.bodies[m].dofs
-                    if f"{m}.{d}" in index) / total
-        if share > best_share:
-            best, best_share = name, share
-    if best is None or best_share < 0.5:
-        return None
-    members = chains[best]
-    if any(asm.bodies[m].dofs != DOF_NAMES for m in members):
-        return None
-    label = _chain_label(asm, members, shape, index, best)
-    others: dict[str, float] = {}
-    chain_set = set(members)
+    owner = {m: name for name, members in chains.items() for m in members}
+    units: dict[str, float] = {}
     for d, i in index.items():
         body = d.rsplit(".", 1)[0]
-        if body not in chain_set:
-            others[body] = others.get(body, 0.0) + e[i] / total
-    if others:
-        body, share = max(others.items(), key=lambda kv: kv[1])
-        if share >= 0.2:
-            dofs = [d for d in index if d.rsplit(".", 1)[0] == body]
-            main = max(dofs, key=lambda d: e[index[d]]).rsplit(".", 1)[1]
-            label += f" with {body} {_RIGID_WORDS.get(main, main)}"
-    return label
+        unit = owner.get(body, body)
+        units[unit] = units.get(unit, 0.0) + e[i] / total
+    chain_units = [u for u in units if u in chains]
+    if not chain_units:
+        return None
+    best = max(chain_units, key=lambda u: units[u])
+    members = chains[best]
+    if units[best] < 0.2 or any(asm.bodies[m].dofs != DOF_NAMES for m in members):
+        return None
+    chain_words = _chain_label(asm, members, shape, index, best)
+    others = sorted((u for u in units if u != best), key=lambda u: -units[u])
+
+    def word_of(body: str) -> str:
+        dofs = [d for d in index if d.rsplit(".", 1)[0] == body]
+        main = max(dofs, key=lambda d: e[index[d]]).rsplit(".", 1)[1]
+        return f"{body} {_RIGID_WORDS.get(main, main)}"
+
+    if units[best] >= 0.5:
+        if others and units[others[0]] >= 0.2:
+            other = others[0]
+            part = _chain_label(asm, chains[other], shape, index, other) \
+                if other in chains else word_of(other)
+            return f"{chain_words} with {part}"
+        return chain_words
+    lead = others[0]
+    if lead in chains:
+        return f"{_chain_label(asm, chains[lead], shape, index, lead)} with {chain_words}"
+    return f"{word_of(lead)} with {chain_words}"
 
 
 def _chain_label(asm: Any, members: list[str], shape: np.ndarray, index: dict[str, int],
