@@ -269,12 +269,17 @@ def test_frames_follow_the_cycle(car):
     factor = field.factor(scene, 0.08)
     with ModeRenderer(scene, (200, 150)) as renderer:
         renderer.set_mode(field)
-        k = [p.name for p in scene.parts].index("body:body")
-        base = scene.parts[k].mesh.points
+        base = scene.part("body:body").mesh.points
         renderer.set_phase(0.0)
-        up = np.array(renderer._meshes[k].points)
+        up = renderer.points_of("body:body")
         renderer.set_phase(math.pi)
-        down = np.array(renderer._meshes[k].points)
+        down = renderer.points_of("body:body")
+        renderer.set_phase(math.pi / 2)
+        still = renderer.points_of("body:body")
+    np.testing.assert_allclose(still, base, atol=1e-12)
+    # Each drawn point moves by the factor times its rigid displacement.
+    k = [p.name for p in scene.parts].index("body:body")
+    np.testing.assert_allclose(up - base, factor * field.displacements[k], atol=1e-12)
     np.testing.assert_allclose(up - base, -(down - base), atol=1e-12)
     # The largest drawn displacement is the set fraction of the vehicle size.
     peak = max(np.linalg.norm(u, axis=1).max() for u in field.displacements if u is not None)

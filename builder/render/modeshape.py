@@ -232,6 +232,34 @@ def parse_size(text: str | Sequence[int] | None, default: tuple[int, int]) -> tu
     return w, h
 
 
+def _append(pv, meshes: Sequence[Any]):
+    """One PolyData of several, points kept in order (float64)."""
+    from vtkmodules.vtkFiltersCore import vtkAppendPolyData
+
+    if len(meshes) == 1:
+        out = meshes[0].copy(deep=True)
+    else:
+        append = vtkAppendPolyData()
+        for mesh in meshes:
+            append.AddInputData(mesh)
+        append.Update()
+        out = pv.wrap(append.GetOutput())
+    out.points_to_double()
+    return out
+
+
+class _Group:
+    """Several moving parts drawn as one mesh; ``slices`` locate each part's points."""
+
+    def __init__(self, pv, meshes: Sequence[Any], members: Sequence[int]):
+        self.mesh = _append(pv, [m.copy(deep=True) for m in meshes])
+        self.members = list(members)
+        ends = np.cumsum([0] + [m.n_points for m in meshes])
+        self.slices = [slice(int(a), int(b)) for a, b in zip(ends[:-1], ends[1:], strict=True)]
+        self.base = np.array(self.mesh.points, dtype=float)
+        self.scaled: NDArray | None = None
+
+
 class ModeRenderer:
     """One off-screen plotter holding a scene, redrawn for any mode, view and phase.
 
@@ -258,8 +286,6 @@ class ModeRenderer:
         if not anti_aliasing:    # multisampling triples the CPU render time of a frame
             self.plotter.disable_anti_aliasing()
         self.plotter.set_background(PALETTE["background_bottom"], top=PALETTE["background_top"])
-        self._meshes: list[Any] = []
-        self._base: list[NDArray] = []
         font = font_size or max(7, int(round(self.size[1] / 52)))
         self._font = font
         lut = _colour_table(pv)
@@ -267,30 +293,44 @@ class ModeRenderer:
                "vertical": True, "position_x": 0.9, "position_y": 0.18, "width": 0.035,
                "height": 0.5, "color": PALETTE["text"], "title_font_size": font,
                "label_font_size": font}
-        bar_done = False
-        for part in scene.parts:
-            mesh = part.mesh.copy(deep=True)
-            if part.moving and plain:    # the undeformed scene in the parts' own colours
-                self.plotter.add_mesh(mesh, color=part.color, opacity=part.opacity,
+        # Moving parts are merged into one mesh per opacity (one actor each, so a
+        # model of thousands of bodies renders as fast as a small one); static
+        # parts keep their own colours.
+        self._groups: list[_Group] = []
+        self._slices: dict[int, tuple[_Group, slice]] = {}
+        moving = [k for k, p in enumerate(scene.parts) if p.moving]
+        if plain:
+            for k in moving:
+                part = scene.parts[k]
+                group = _Group(pv, [part.mesh], [k])
+                self.plotter.add_mesh(group.mesh, color=part.color, opacity=part.opacity,
                                       ambient=0.2, specular=0.1)
-            elif part.moving:
-                mesh.point_data["amplitude"] = np.zeros(mesh.n_points)
+                self._add_group(group)
+        else:
+            for opacity in sorted({scene.parts[k].opacity for k in moving}, reverse=True):
+                members = [k for k in moving if scene.parts[k].opacity == opacity]
+                group = _Group(pv, [scene.parts[k].mesh for k in members], members)
+                group.mesh.point_data["amplitude"] = np.zeros(group.mesh.n_points)
                 self.plotter.add_mesh(
-                    mesh, scalars="amplitude", cmap=lut, clim=(0.0, 1.0), smooth_shading=False,
-                    show_scalar_bar=scalar_bar and not bar_done, scalar_bar_args=bar,
-                    specular=0.15, diffuse=0.85, ambient=0.18, opacity=part.opacity)
-                bar_done = True
-                if ghost and part.ghost is not None:
-                    self.plotter.add_mesh(part.ghost, color=PALETTE["ghost"], line_width=1.2,
-                                          style="wireframe")
-            elif part.kind == "ground":
+                    group.mesh, scalars="amplitude", cmap=lut, clim=(0.0, 1.0),
+                    smooth_shading=False, show_scalar_bar=scalar_bar and not self._groups,
+                    scalar_bar_args=bar, specular=0.15, diffuse=0.85, ambient=0.18,
+                    opacity=opacity)
+                self._add_group(group)
+            ghosts = [p.ghost for p in scene.parts if p.moving and p.ghost is not None]
+            if ghost and ghosts:
+                self.plotter.add_mesh(_append(pv, ghosts), color=PALETTE["ghost"],
+                                      line_width=1.2, style="wireframe")
+        for part in scene.parts:
+            if part.moving:
+                continue
+            mesh = part.mesh.copy(deep=True)
+            if part.kind == "ground":
                 self.plotter.add_mesh(mesh, color=part.color, show_edges=True,
                                       edge_color=PALETTE["ground_edges"], ambient=0.35,
                                       diffuse=0.65, specular=0.0)
             else:
                 self.plotter.add_mesh(mesh, color=part.color, ambient=0.2, specular=0.1)
-            self._meshes.append(mesh)
-            self._base.append(np.array(part.mesh.points, dtype=float))
         self._title = self.plotter.add_text("", position=(0.015 * self.size[0],
                                                       self.size[1] - 0.6 * font),
                                             font_size=font, color=PALETTE["text"])
@@ -339,32 +379,46 @@ class ModeRenderer:
         self.plotter.renderer.ResetCameraClippingRange()
         self._view = view
 
+    def _add_group(self, group: _Group) -> None:
+        self._groups.append(group)
+        for k, part_slice in zip(group.members, group.slices, strict=True):
+            self._slices[k] = (group, part_slice)
+
+    def points_of(self, name: str) -> NDArray:
+        """The current drawn points (n x 3, m) of the part called ``name``."""
+        k = [p.name for p in self.scene.parts].index(name)
+        if k not in self._slices:
+            return np.array(self.scene.parts[k].mesh.points)
+        group, part_slice = self._slices[k]
+        return np.array(group.mesh.points[part_slice])
+
     def set_mode(self, field: ModeField | None, title: str = "") -> None:
         """Show ``field`` (None: the undeformed scene) with ``title`` above it."""
         self._field = field
-        for k, part in enumerate(self.scene.parts):
-            if part.moving and "amplitude" in self._meshes[k].point_data:
-                amp = None if field is None else field.amplitude[k]
-                data = self._meshes[k].point_data["amplitude"]
-                data[:] = 0.0 if amp is None else amp
-                self._meshes[k].point_data.Modified()
+        factor = 0.0 if field is None else field.factor(self.scene, self.scale)
+        for group in self._groups:
+            n = group.mesh.n_points
+            amp = np.zeros(n)
+            disp = np.zeros((n, 3), dtype=complex)
+            for k, part_slice in zip(group.members, group.slices, strict=True):
+                if field is not None and field.displacements[k] is not None:
+                    amp[part_slice] = field.amplitude[k]
+                    disp[part_slice] = factor * field.displacements[k]
+            group.scaled = disp if factor else None
+            if "amplitude" in group.mesh.point_data:
+                group.mesh.point_data["amplitude"][:] = amp
+                group.mesh.point_data.Modified()
         self._title.SetInput(title)
 
     def set_phase(self, phase: float) -> None:
         """Move the points to phase ``phase`` (rad) of the cycle: ``Re(u exp(i phase))``."""
-        field = self._field
-        factor = 0.0 if field is None else field.factor(self.scene, self.scale)
         turn = complex(math.cos(phase), math.sin(phase))
-        for k, part in enumerate(self.scene.parts):
-            if not part.moving:
-                continue
-            mesh = self._meshes[k]
-            if field is None or field.displacements[k] is None or factor == 0.0:
-                new = self._base[k]
+        for group in self._groups:
+            if group.scaled is None:
+                group.mesh.points[:] = group.base
             else:
-                new = self._base[k] + factor * np.real(field.displacements[k] * turn)
-            mesh.points[:] = new
-            mesh.GetPoints().Modified()
+                group.mesh.points[:] = group.base + np.real(group.scaled * turn)
+            group.mesh.GetPoints().Modified()
 
     def screenshot(self) -> NDArray:
         """Render and return the image (height x width x 3, uint8)."""
