@@ -456,6 +456,8 @@ def test_ride_sweep_matches_the_ride_analysis(tmp_path, run_cli):
     (["--vary", "ks=1..2:2", "--csv", "out.txt"], "--csv"),
     (["--vary", "ks=10kN/m..40kN/m", "--target", "x=1Hz"], "--target"),
     (["--vary", "ks=10kN/m..40kN/m", "--target", "1=1kg"], "--target"),
+    (["--vary", "ks=1..2:2", "--cluster", "nonsense"], "--cluster"),
+    (["--vary", "ks=1..2:2", "--workers", "0"], "--workers"),
 ])
 def test_sweep_command_errors_are_one_line(run_cli, args, option):
     code, text, err = run_cli("sweep", QUARTER, *args)

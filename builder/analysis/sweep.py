@@ -558,13 +558,13 @@ def _run_dask(problem: Any, chunks: list[_Chunk], cluster: Any) -> Iterator[dict
     if own:
         try:
             client = Client(cluster, timeout=10)
-        except (OSError, TimeoutError) as exc:
+        except (OSError, TimeoutError, ValueError) as exc:
             raise InputError(f"cannot reach the Dask scheduler at {cluster} ({exc})",
                              Where(field="--cluster")) from None
     else:
         client = cluster
     try:
-        [pf] = client.scatter([problem], broadcast=True)
+        [pf] = client.scatter([problem], broadcast=True, hash=False)   # a key of its own
         futures = [client.submit(_evaluate, pf, c.values, c.ref_pos, c.stop - c.start,
                                  pure=False, priority=-i) for i, c in enumerate(chunks)]
         try:

@@ -108,17 +108,19 @@ def batch_match(ref_shapes: np.ndarray, shapes: np.ndarray, mass: np.ndarray) ->
     the variant's mass matrix. Returns (k, m) ints.
     """
     wb = mass @ shapes
-    cross = np.einsum("kni,knj->kij", ref_shapes, wb)
+    cross = np.swapaxes(ref_shapes, -1, -2) @ wb
     wa = mass @ ref_shapes
-    na = np.einsum("kni,kni->ki", ref_shapes, wa)
-    nb = np.einsum("kni,kni->ki", shapes, wb)
+    na = np.sum(ref_shapes * wa, axis=1)
+    nb = np.sum(shapes * wb, axis=1)
     denom = na[:, :, None] * nb[:, None, :]
     mac = np.clip(cross**2 / np.where(denom > 0, denom, 1.0), 0.0, 1.0)
     out = np.argmax(mac, axis=2)
     best = np.take_along_axis(mac, out[:, :, None], axis=2)[:, :, 0]
-    square = mac.shape[1] == mac.shape[2]
-    for k in range(len(mac)):
-        if (not square or not np.all(best[k] > 0.5)
-                or len(np.unique(out[k])) != len(out[k])):
-            out[k] = _assign(mac[k], complete=False)
+    if mac.shape[1] == mac.shape[2]:
+        ok = np.all(best > 0.5, axis=1) & np.all(
+            np.sort(out, axis=1) == np.arange(mac.shape[1])[None, :], axis=1)
+    else:
+        ok = np.zeros(len(mac), dtype=bool)
+    for k in np.nonzero(~ok)[0]:
+        out[k] = _assign(mac[k], complete=False)
     return out

@@ -20,6 +20,7 @@ a Dask scheduler. Two other uses of the same options:
 from __future__ import annotations
 
 import argparse
+import re
 import sys
 from typing import Any
 
@@ -131,6 +132,10 @@ def run(args: argparse.Namespace) -> int:
         output_path(args.csv, (".csv",), "--csv")
     if args.plot:
         output_path(args.plot, (".png",), "--plot")
+    if args.cluster is not None and not re.fullmatch(r"(?:[a-z]+://)?[^\s:/]+:\d+",
+                                                     args.cluster.strip()):
+        raise InputError(f'expected a scheduler address such as tcp://10.0.0.5:8786, got '
+                         f'"{args.cluster}"', Where(field="--cluster"))
     if args.resume and not args.csv:
         raise InputError("--resume continues the file given by --csv", Where(field="--resume"))
     keep = _keep(args)
