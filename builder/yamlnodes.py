@@ -246,7 +246,11 @@ class _Converter:
                 raise InputError(f'duplicate key "{key}" (first on line {lines[key]})',
                                  where.child(key, line))
             lines[key] = line
-            out[key] = self.convert(vnode, where.child(key, vnode.start_mark.line + 1))
+            # a block mapping or list starts on the next line; its key's line names it better
+            vline = vnode.start_mark.line + 1
+            if not isinstance(vnode, yaml.ScalarNode):
+                vline = line
+            out[key] = self.convert(vnode, where.child(key, vline))
         for src in merged:
             for k, v in src.value.items():
                 if k not in out:

@@ -1,4 +1,12 @@
-"""``spring``: an axial spring and viscous damper between two points."""
+"""``spring``: an axial spring and viscous damper between two points.
+
+The spring acts along the line through end a's point in the direction
+``axis`` (default: the line from a to b). End b is taken at the point of
+that line nearest to b's given point, so the two end forces are collinear
+and the element can carry no moment it cannot react; with the default axis
+that is b's point itself. The tool warns when b's point lies more than
+1 mm off the line.
+"""
 
 from __future__ import annotations
 
@@ -42,16 +50,27 @@ class Spring:
             if "damping" in fields else 0.0
         eta = fields["loss_factor"].quantity("dimensionless", parameters, "nonnegative") \
             if "loss_factor" in fields else 0.0
-        return spring_props(axis, k, c, eta)
+        props = spring_props(axis, k, c, eta)
+        off = _line_point(np.asarray(a.at), props["axis"], np.asarray(b.at)) - np.asarray(b.at)
+        if np.linalg.norm(off) > 1e-3:
+            props["warning"] = (f"{where.prefix()}: end b is {1000 * np.linalg.norm(off):.0f} mm "
+                                "off the spring's line; it acts on that line")
+        return props
 
     def matrices(self, link: Any) -> ElementMatrices:
         p = link.props
         n = p["axis"]
         D = np.zeros((1, 12))
         D[0, 0:3], D[0, 6:9] = -n, n
+        pa = np.asarray(link.a.at, float)
         return ElementMatrices.from_components(
-            (link.a.at, link.b.at), D, np.array([p["stiffness"]]), np.array([p["damping"]]),
+            (pa, _line_point(pa, n, np.asarray(link.b.at, float))), D, np.array([p["stiffness"]]), np.array([p["damping"]]),
             p["loss_factor"], ("axial",), ("m",))
+
+
+def _line_point(pa: np.ndarray, n: np.ndarray, pb: np.ndarray) -> np.ndarray:
+    """The point of the line through pa along n nearest to pb (m)."""
+    return pa + n * float(n @ (pb - pa))
 
 
 register_link_type(Spring())
