@@ -413,3 +413,22 @@ def test_format_example_of_a_beam_link_loads_and_assembles():
     # Local x runs from a to b (-x globally); the section's y is then -y.
     r = builder.elements.beam.beam_rotation([-1.0, 0, 0.5], [-1.5, 0, 0.5], [0, 0, 1])
     np.testing.assert_allclose(r, [[-1, 0, 0], [0, -1, 0], [0, 0, 1]], atol=1e-15)
+
+
+def test_flexible_body_modes_table():
+    from plugins.split_body.analysis import flexible_body_modes
+    model = assemble(flexible_car(10))
+    result = flexible_body_modes(model, count=20, craig_bampton_modes=12)
+    first = {lab: f for f, lab in zip(result.frequencies_hz, result.labels)}
+    # The demo's invented stiffness puts the first torsion and vertical bending
+    # in 20-40 Hz (common practice, no source: bodies are designed above ~25 Hz).
+    assert 20 < first["body first torsion"] < 40
+    assert 20 < first["body first vertical bending"] < 40
+    flagged = [lab for lab, el in zip(result.labels, result.elastic) if el]
+    assert "body first torsion" in flagged and "body bounce with engine bounce" not in flagged
+    # Craig-Bampton (12 modes) against the full model below 40 Hz, 0.1 %.
+    low = result.frequencies_hz < 40
+    np.testing.assert_allclose(result.reduced_frequencies_hz[low], result.frequencies_hz[low],
+                               rtol=1e-3, atol=1e-9)
+    assert "body first torsion" in result.table()
+    assert result.to_dict()["craig_bampton"]["dofs"] == result.reduced_dofs
