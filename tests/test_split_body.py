@@ -427,8 +427,9 @@ def test_flexible_body_modes_table():
     flagged = [lab for lab, el in zip(result.labels, result.elastic) if el]
     assert "body first torsion" in flagged and "body bounce with engine bounce" not in flagged
     # Craig-Bampton (12 modes) against the full model below 40 Hz, 0.1 %.
+    # (This car's suspension springs act along z only: three rigid-body modes.)
     low = result.frequencies_hz < 40
     np.testing.assert_allclose(result.reduced_frequencies_hz[low], result.frequencies_hz[low],
-                               rtol=1e-3, atol=1e-9)
+                               rtol=1e-3, atol=1e-4)
     assert "body first torsion" in result.table()
     assert result.to_dict()["craig_bampton"]["dofs"] == result.reduced_dofs
