@@ -132,8 +132,17 @@ def lowest_modes(K, M, count: int, sigma: float | None = None,
     op = scipy.sparse.linalg.LinearOperator((n, n), matvec=lu.solve, dtype=float)
     v0 = np.random.default_rng(_START_SEED).standard_normal(n)
     # Shift-invert mode: the operator is (K - sigma M)^-1, given explicitly.
-    _, x = scipy.sparse.linalg.eigsh(k, k=count, M=m, sigma=shift, which="LM",
-                                     OPinv=op, v0=v0, ncv=min(n, max(2 * count + 1, 20)))
+    ncv = min(n, max(2 * count + 1, 20))
+    for attempt in range(2):
+        try:
+            _, x = scipy.sparse.linalg.eigsh(k, k=count, M=m, sigma=shift, which="LM",
+                                             OPinv=op, v0=v0, ncv=ncv)
+            break
+        except scipy.sparse.linalg.ArpackNoConvergence as exc:
+            if attempt == 1:
+                raise InputError(f"the eigen-solution for the lowest {count} modes did not "
+                                 "converge; ask for fewer modes") from exc
+            ncv = min(n, 2 * ncv)
     lam, x = _rayleigh_ritz(k, m, x)
     return lam, _sign_convention(x)
 

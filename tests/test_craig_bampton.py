@@ -129,3 +129,20 @@ def test_craig_bampton_refusals():
         craig_bampton(k, m, np.arange(6), 1000)
     with pytest.raises(InputError, match="distinct"):
         craig_bampton(k, m, [0, 0], 1)
+
+
+def test_lowest_modes_takes_dense_arrays_and_an_explicit_shift():
+    # Same analytic chain as above, given as dense arrays beyond the dense limit
+    # (sparse path), and with a shift inside the spectrum (modes nearest it).
+    n = 700
+    k, m = spring_chain(n)
+    lam, _ = lowest_modes(k.toarray(), m.toarray(), 6)
+    j = np.arange(6)
+    exact = 4 * 1.0e4 / 2.0 * np.sin(j * np.pi / (2 * n)) ** 2
+    np.testing.assert_allclose(lam, exact, rtol=1e-9, atol=1e-8 * exact[1])
+    j = np.arange(n)
+    spectrum = 4 * 1.0e4 / 2.0 * np.sin(j * np.pi / (2 * n)) ** 2
+    sigma = spectrum[50] * 1.0001
+    near = np.sort(spectrum[np.argsort(np.abs(spectrum - sigma))[:5]])
+    lam, _ = lowest_modes(k, m, 5, sigma=sigma)
+    np.testing.assert_allclose(np.sort(lam), near, rtol=1e-9)
