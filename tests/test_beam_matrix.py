@@ -67,7 +67,7 @@ def test_local_matrix_matches_textbook_euler_bernoulli():
     L = 0.7
     k = beam_local_stiffness(L, **PROPS)
     expected = textbook_euler_bernoulli(L, **PROPS)
-    np.testing.assert_allclose(k, expected, rtol=1e-12, atol=1e-6 * np.abs(expected).max() * 1e-6)
+    np.testing.assert_allclose(k, expected, rtol=1e-12, atol=1e-12 * np.abs(expected).max())
 
 
 def test_local_matrix_matches_textbook_timoshenko():
