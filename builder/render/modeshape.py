@@ -232,29 +232,15 @@ def parse_size(text: str | Sequence[int] | None, default: tuple[int, int]) -> tu
     return w, h
 
 
-def _append(pv, meshes: Sequence[Any]):
-    """One PolyData of several, points kept in order (float64)."""
-    from vtkmodules.vtkFiltersCore import vtkAppendPolyData
-
-    if len(meshes) == 1:
-        out = meshes[0].copy(deep=True)
-    else:
-        append = vtkAppendPolyData()
-        for mesh in meshes:
-            append.AddInputData(mesh)
-        append.Update()
-        out = pv.wrap(append.GetOutput())
-    out.points_to_double()
-    return out
-
-
 class _Group:
     """Several moving parts drawn as one mesh; ``slices`` locate each part's points."""
 
-    def __init__(self, pv, meshes: Sequence[Any], members: Sequence[int]):
-        self.mesh = _append(pv, [m.copy(deep=True) for m in meshes])
+    def __init__(self, parts: Sequence[Any], members: Sequence[int]):
+        from .scene import Geometry
+
+        self.mesh = Geometry.merge([p.geometry for p in parts]).polydata()
         self.members = list(members)
-        ends = np.cumsum([0] + [m.n_points for m in meshes])
+        ends = np.cumsum([0] + [len(p.geometry.points) for p in parts])
         self.slices = [slice(int(a), int(b)) for a, b in zip(ends[:-1], ends[1:], strict=True)]
         self.base = np.array(self.mesh.points, dtype=float)
         self.scaled: NDArray | None = None
@@ -302,14 +288,14 @@ class ModeRenderer:
         if plain:
             for k in moving:
                 part = scene.parts[k]
-                group = _Group(pv, [part.mesh], [k])
+                group = _Group([part], [k])
                 self.plotter.add_mesh(group.mesh, color=part.color, opacity=part.opacity,
                                       ambient=0.2, specular=0.1)
                 self._add_group(group)
         else:
             for opacity in sorted({scene.parts[k].opacity for k in moving}, reverse=True):
                 members = [k for k in moving if scene.parts[k].opacity == opacity]
-                group = _Group(pv, [scene.parts[k].mesh for k in members], members)
+                group = _Group([scene.parts[k] for k in members], members)
                 group.mesh.point_data["amplitude"] = np.zeros(group.mesh.n_points)
                 self.plotter.add_mesh(
                     group.mesh, scalars="amplitude", cmap=lut, clim=(0.0, 1.0),
@@ -317,10 +303,12 @@ class ModeRenderer:
                     scalar_bar_args=bar, specular=0.15, diffuse=0.85, ambient=0.18,
                     opacity=opacity)
                 self._add_group(group)
-            ghosts = [p.ghost for p in scene.parts if p.moving and p.ghost is not None]
+            ghosts = [p.outline for p in scene.parts if p.moving and p.outline is not None]
             if ghost and ghosts:
-                self.plotter.add_mesh(_append(pv, ghosts), color=PALETTE["ghost"],
-                                      line_width=1.2, style="wireframe")
+                from .scene import Geometry
+
+                self.plotter.add_mesh(Geometry.merge(ghosts).polydata(), color=PALETTE["ghost"],
+                                      line_width=1.2)
         for part in scene.parts:
             if part.moving:
                 continue
@@ -347,7 +335,7 @@ class ModeRenderer:
         up = up - direction * (up @ direction)
         up /= np.linalg.norm(up)
         right = np.cross(direction, up) * -1.0
-        pts = np.vstack([p.mesh.points for p in self.scene.parts
+        pts = np.vstack([p.geometry.points for p in self.scene.parts
                          if p.kind != "ground"])
         center = 0.5 * (pts.min(axis=0) + pts.max(axis=0))
         rel = pts - center
@@ -388,7 +376,7 @@ class ModeRenderer:
         """The current drawn points (n x 3, m) of the part called ``name``."""
         k = [p.name for p in self.scene.parts].index(name)
         if k not in self._slices:
-            return np.array(self.scene.parts[k].mesh.points)
+            return np.array(self.scene.parts[k].geometry.points)
         group, part_slice = self._slices[k]
         return np.array(group.mesh.points[part_slice])
 

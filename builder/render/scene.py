@@ -1,8 +1,9 @@
 """The drawn scene of an assembly, and how each drawn point follows the DOFs.
 
 :func:`build_scene` turns an :class:`~builder.assembly.Assembly` into a list of
-:class:`Part` meshes (pyvista ``PolyData``, undeformed, global coordinates in
-metres):
+:class:`Part` meshes (plain arrays in a :class:`Geometry`, built without VTK
+objects so that thousands of bodies stay cheap; ``Part.mesh`` gives a pyvista
+``PolyData``), undeformed, in global coordinates (m):
 
 - each body: its own ``shape`` if it gives one, else the uniform box (or
   ellipsoid) with its mass and principal moments, on its principal axes;
@@ -32,10 +33,19 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import InputError
-from .shapes import helix, solid_size
+from .shapes import (
+    box_edges,
+    box_mesh,
+    cylinder_mesh,
+    ellipse_rings,
+    ellipsoid_mesh,
+    helix,
+    solid_size,
+    tube_mesh,
+)
 
 __all__ = [
-    "Term", "Part", "Scene", "PALETTE", "build_scene", "point_maps", "body_motions",
+    "Term", "Part", "Scene", "Geometry", "PALETTE", "build_scene", "point_maps", "body_motions",
     "mode_displacements", "import_pyvista",
 ]
 
@@ -90,29 +100,95 @@ class Term:
     """One body's share of a part's point motion: ``u += weight * maps @ q[body]``."""
 
     body: int            # index into Scene.bodies
-    maps: NDArray        # n x 3 x 6
+    maps: NDArray        # n x 3 x 6 (may be a broadcast view)
     weight: NDArray      # n
 
 
 @dataclass
+class Geometry:
+    """A mesh as plain arrays: points (n x 3, m), VTK flat face and line cells."""
+
+    points: NDArray
+    faces: NDArray = field(default_factory=lambda: np.zeros(0, np.int64))
+    lines: NDArray = field(default_factory=lambda: np.zeros(0, np.int64))
+
+    @staticmethod
+    def of(mesh) -> Geometry:
+        """The arrays of a pyvista PolyData."""
+        return Geometry(np.array(mesh.points, dtype=float), np.array(mesh.faces, np.int64),
+                        np.array(mesh.lines, np.int64))
+
+    @staticmethod
+    def merge(parts: Sequence[Geometry]) -> Geometry:
+        """One geometry of several, points kept in order."""
+        points, faces, lines, offset = [], [], [], 0
+        for g in parts:
+            points.append(g.points)
+            faces.append(_shift(g.faces, offset))
+            lines.append(_shift(g.lines, offset))
+            offset += len(g.points)
+        return Geometry(np.vstack(points) if points else np.zeros((0, 3)),
+                        np.concatenate(faces) if faces else np.zeros(0, np.int64),
+                        np.concatenate(lines) if lines else np.zeros(0, np.int64))
+
+    def polydata(self):
+        """A pyvista PolyData of these arrays (float64 points)."""
+        pv = import_pyvista()
+        points = np.ascontiguousarray(self.points, dtype=float)
+        # Cells given explicitly: no vertex cell per point (pyvista adds those to a
+        # PolyData made from points alone).
+        return pv.PolyData(points, faces=self.faces if self.faces.size else None,
+                           lines=self.lines if self.lines.size else None)
+
+
+def _shift(cells: NDArray, offset: int) -> NDArray:
+    """VTK flat cells with every point index moved by ``offset``."""
+    if not cells.size or offset == 0:
+        return cells
+    out = cells.copy()
+    k = 0
+    while k < len(out):
+        count = int(out[k])
+        out[k + 1:k + 1 + count] += offset
+        k += count + 1
+    return out
+
+
+@dataclass(eq=False)
 class Part:
-    """One drawn piece: its undeformed mesh, colour and how its points move."""
+    """One drawn piece: its undeformed geometry, colour and how its points move."""
 
     name: str            # "body:NAME", "spring:NAME", "road:NAME", "ground", ...
     kind: str            # body, spring, bushing, beam, link, sensor, road, ground, axes
-    mesh: Any            # pyvista.PolyData (float64 points, global axes, m)
+    geometry: Geometry   # global axes, m
     color: str
     terms: list[Term] = field(default_factory=list)
-    ghost: Any = None    # outline drawn undeformed, or None
+    outline: Geometry | None = None   # drawn undeformed as a ghost, or None
     opacity: float = 1.0  # below 1 for a solid that encloses other parts
+    s: NDArray | None = None          # link points: fraction of the way from end a to b
+    _mesh: Any = None
 
     @property
     def moving(self) -> bool:
         return bool(self.terms)
 
+    @property
+    def mesh(self):
+        """The geometry as a pyvista PolyData (built once), with ``s`` as point data."""
+        if self._mesh is None:
+            self._mesh = self.geometry.polydata()
+            if self.s is not None:
+                self._mesh.point_data["s"] = self.s
+        return self._mesh
+
+    @property
+    def ghost(self):
+        """The outline as a pyvista PolyData, or None."""
+        return None if self.outline is None else self.outline.polydata()
+
     def displacement(self, q: NDArray) -> NDArray:
         """Point displacements (n x 3) for body motions ``q`` (nb x 6; may be complex)."""
-        n = self.mesh.n_points
+        n = len(self.geometry.points)
         out = np.zeros((n, 3), dtype=np.result_type(q.dtype, float))
         for term in self.terms:
             out += term.weight[:, None] * np.einsum("nij,j->ni", term.maps, q[term.body])
@@ -150,13 +226,8 @@ def _vec(value: Any) -> NDArray:
     return np.asarray(value, dtype=float).reshape(3)
 
 
-def _with_double(mesh):
-    mesh.points_to_double()
-    return mesh
-
-
-def _body_solid(pv, body, kind: str):
-    """The mesh of a body: its own ``shape`` if given, else its equivalent uniform solid.
+def _body_solid(body, kind: str) -> tuple[Geometry, Geometry]:
+    """A body's solid and outline: its own ``shape`` if given, else its equivalent solid.
 
     A file's shape is ``{box: [lx, ly, lz]}`` (edge lengths, m) or
     ``{ellipsoid: [ax, ay, az]}`` (semi-axes, m), along the global axes and
@@ -166,39 +237,47 @@ def _body_solid(pv, body, kind: str):
     shape = getattr(body, "shape", None)
     if not shape:
         half, axes = solid_size(body.mass, body.inertia, kind)
-        return _oriented(pv, kind, cg, half, axes)
-    solid = str(shape.get("kind", "box"))
-    size = np.asarray(shape["size"], dtype=float).reshape(3)
-    if solid == "ellipsoid":
-        return _oriented(pv, "ellipsoid", cg, size, np.eye(3))
-    if solid != "box":
-        raise InputError(f"shape: unknown kind {solid!r} (box, ellipsoid)",
-                         getattr(body, "where", None))
-    return _oriented(pv, "box", cg, 0.5 * size, np.eye(3))
-
-
-def _oriented(pv, kind: str, center: NDArray, half: NDArray, axes: NDArray):
-    if kind == "box":
-        unit = pv.Cube(center=(0, 0, 0), x_length=2, y_length=2, z_length=2, clean=False)
+        solid = kind
     else:
-        unit = pv.Sphere(radius=1.0, theta_resolution=28, phi_resolution=16)
-    unit = _with_double(unit)
-    unit.points = np.asarray(center, float) + (unit.points * half) @ np.asarray(axes).T
-    return unit
+        solid = str(shape.get("kind", "box"))
+        size = np.asarray(shape["size"], dtype=float).reshape(3)
+        if solid not in ("box", "ellipsoid"):
+            raise InputError(f"shape: unknown kind {solid!r} (box, ellipsoid)",
+                             getattr(body, "where", None))
+        half, axes = (0.5 * size if solid == "box" else size), np.eye(3)
+    if solid == "box":
+        points, faces = box_mesh(cg, half, axes)
+        corners, lines = box_edges(cg, half, axes)
+        return Geometry(points, faces), Geometry(corners, lines=lines)
+    points, faces = ellipsoid_mesh(cg, half, axes)
+    rings, lines = ellipse_rings(cg, half, axes)
+    return Geometry(points, faces), Geometry(rings, lines=lines)
 
 
 def _end_node(end) -> str:
     return str(getattr(end, "node", getattr(end, "body", "ground")))
 
 
-def _end_point(end, fallback: NDArray, ground_z: float, bodies: Mapping) -> NDArray:
+def _finite_at(end) -> NDArray | None:
     at = getattr(end, "at", None)
-    if at is not None and np.all(np.isfinite(np.asarray(at, dtype=float))):
-        return _vec(at)
+    if at is None:
+        return None
+    at = np.asarray(at, dtype=float).reshape(3)
+    return at if np.all(np.isfinite(at)) else None
+
+
+def _end_point(end, fallback: NDArray, ground_z: float, bodies: Mapping) -> NDArray:
+    at = _finite_at(end)
+    if at is not None:
+        return at
     node = _end_node(end)
     if node in bodies:
         return _vec(bodies[node].cg)
     return np.array([fallback[0], fallback[1], ground_z])
+
+
+def _rigid_terms(i: int, points: NDArray, cg: NDArray) -> list[Term]:
+    return [Term(i, point_maps(points - cg), np.ones(len(points)))]
 
 
 def build_scene(assembly, solid: str = "box") -> Scene:
@@ -209,92 +288,85 @@ def build_scene(assembly, solid: str = "box") -> Scene:
     """
     if solid not in ("box", "ellipsoid"):
         raise InputError(f"solid: expected box or ellipsoid, got {solid!r}")
-    pv = import_pyvista()
     bodies = dict(assembly.bodies)
+    links = dict(getattr(assembly, "links", {}) or {})
     names = tuple(bodies)
     index = {name: i for i, name in enumerate(names)}
     cgs = np.array([_vec(b.cg) for b in bodies.values()]).reshape(-1, 3)
     parts: list[Part] = []
 
     for i, (name, body) in enumerate(bodies.items()):
-        mesh = _body_solid(pv, body, solid)
+        geometry, outline = _body_solid(body, solid)
         color = PALETTE["bodies"][i % len(PALETTE["bodies"])]
-        parts.append(Part(f"body:{name}", "body", mesh, color,
-                          [Term(i, point_maps(mesh.points - cgs[i]), np.ones(mesh.n_points))],
-                          ghost=mesh.extract_feature_edges(20.0, boundary_edges=True,
-                                                           non_manifold_edges=False,
-                                                           manifold_edges=False)))
+        parts.append(Part(f"body:{name}", "body", geometry, color,
+                          _rigid_terms(i, geometry.points, cgs[i]), outline=outline))
 
     road = dict(getattr(assembly, "road", {}) or {})
     road_pts = np.array([_vec(r.at) for r in road.values()]).reshape(-1, 3)
     # Vehicle extent: solids, road points and link points.
-    pts = [p.mesh.points for p in parts] + [road_pts]
-    for link in getattr(assembly, "links", {}).values():
-        for end in (link.a, link.b):
-            at = getattr(end, "at", None)
-            if at is not None and np.all(np.isfinite(np.asarray(at, dtype=float))):
-                pts.append(_vec(at)[None, :])
-    allpts = np.vstack([p for p in pts if len(p)]) if any(len(p) for p in pts) else np.zeros((1, 3))
+    ends = [p for link in links.values() for p in (_finite_at(link.a), _finite_at(link.b))
+            if p is not None]
+    pts = [p.geometry.points for p in parts] + [road_pts, np.array(ends).reshape(-1, 3)]
+    allpts = np.vstack(pts)
+    if not len(allpts):
+        allpts = np.zeros((1, 3))
     lo, hi = allpts.min(axis=0), allpts.max(axis=0)
     size = float(max((hi - lo).max(), 1e-3))
     ground_z = float(road_pts[:, 2].min()) if len(road_pts) else float(lo[2] - 0.05 * size)
     unit = 0.01 * size    # drawing unit for links and markers
 
-    for name, link in getattr(assembly, "links", {}).items():
-        parts.append(_link_part(pv, name, link, bodies, index, cgs, ground_z, unit))
+    for name, link in links.items():
+        parts.append(_link_part(name, link, bodies, index, cgs, ground_z, unit))
 
     for name, sensor in getattr(assembly, "sensors", {}).items():
         target = str(getattr(sensor, "target", ""))
         at = getattr(sensor, "at", None)
         if target in index and at is not None:
-            mesh = _with_double(pv.Sphere(radius=1.6 * unit, center=_vec(at),
-                                          theta_resolution=12, phi_resolution=8))
             i = index[target]
-            parts.append(Part(f"sensor:{name}", "sensor", mesh, PALETTE["sensor"],
-                              [Term(i, point_maps(mesh.points - cgs[i]), np.ones(mesh.n_points))]))
+            points, faces = ellipsoid_mesh(_vec(at), np.full(3, 1.6 * unit), np.eye(3))
+            parts.append(Part(f"sensor:{name}", "sensor", Geometry(points, faces),
+                              PALETTE["sensor"], _rigid_terms(i, points, cgs[i])))
 
     for name, point in road.items():
-        at = _vec(point.at)
-        pad = pv.Cylinder(center=at + [0, 0, 0.6 * unit], direction=(0, 0, 1),
-                          radius=6 * unit, height=1.2 * unit, resolution=24)
-        parts.append(Part(f"road:{name}", "road", _with_double(pad.triangulate()), PALETTE["pad"]))
+        pad = cylinder_mesh(_vec(point.at) + [0, 0, 0.6 * unit], 6 * unit, 1.2 * unit)
+        parts.append(Part(f"road:{name}", "road", Geometry(*pad), PALETTE["pad"]))
 
+    pv = import_pyvista()
     span = hi - lo
     margin = 0.15 * size
     plane = pv.Plane(center=((lo[0] + hi[0]) / 2, (lo[1] + hi[1]) / 2, ground_z),
                      direction=(0, 0, 1), i_size=span[0] + 2 * margin,
                      j_size=span[1] + 2 * margin, i_resolution=10, j_resolution=6)
-    parts.append(Part("ground", "ground", _with_double(plane), PALETTE["ground"]))
+    parts.append(Part("ground", "ground", Geometry.of(plane), PALETTE["ground"]))
     # The triad stands off the front-right corner: left of the vehicle in the
     # side, front and iso views, clear of the scalar bar on the right.
     parts.extend(_axes_parts(pv, np.array([hi[0] + 0.6 * margin, lo[1] - 0.4 * margin,
                                            ground_z]), 0.12 * size))
-
-    _see_through(parts, bodies)
+    _see_through(parts, bodies, links)
     masses = np.array([float(b.mass) for b in bodies.values()])
     inertias = np.array([np.asarray(b.inertia, float).reshape(3, 3) for b in bodies.values()])
     return Scene(str(getattr(assembly, "name", "")), names, cgs, masses,
-                 inertias.reshape(-1, 3, 3), parts, size, np.array([lo[0], hi[0], lo[1], hi[1],
-                                                                   lo[2], hi[2]]))
+                 inertias.reshape(-1, 3, 3), parts, size,
+                 np.array([lo[0], hi[0], lo[1], hi[1], lo[2], hi[2]]))
 
 
-def _see_through(parts: list[Part], bodies: Mapping) -> None:
-    """Make translucent every body solid that hides another body's cg or a link point."""
+def _see_through(parts: list[Part], bodies: Mapping, links: Mapping) -> None:
+    """Make translucent every body solid that hides another body's cg or a link end point."""
     solids = [p for p in parts if p.kind == "body"]
-    marks = {p.name: np.vstack([_vec(bodies[p.name[5:]].cg)[None, :]]) for p in solids}
-    others = [p for p in parts if p.kind != "body"]
-    for solid in solids:
-        lo, hi = solid.mesh.points.min(axis=0), solid.mesh.points.max(axis=0)
-        pts = [m for name, m in marks.items() if name != solid.name]
-        pts += [o.mesh.points for o in others]
-        if not pts:
-            continue
-        inside = np.all((np.vstack(pts) > lo) & (np.vstack(pts) < hi), axis=1)
+    cgs = np.array([_vec(bodies[p.name[5:]].cg) for p in solids]).reshape(-1, 3)
+    ends = [p for link in links.values() for p in (_finite_at(link.a), _finite_at(link.b))
+            if p is not None]
+    marks = np.vstack([cgs, np.array(ends).reshape(-1, 3)])
+    owner = np.concatenate([np.arange(len(cgs)), np.full(len(ends), -1)])
+    for i, solid in enumerate(solids):
+        pts = solid.geometry.points
+        lo, hi = pts.min(axis=0), pts.max(axis=0)
+        inside = np.all((marks > lo) & (marks < hi), axis=1) & (owner != i)
         if inside.any():
             solid.opacity = 0.4
 
 
-def _link_part(pv, name: str, link, bodies: Mapping, index: Mapping, cgs: NDArray,
+def _link_part(name: str, link, bodies: Mapping, index: Mapping, cgs: NDArray,
                ground_z: float, unit: float) -> Part:
     kind = str(getattr(link, "type", "link"))
     node_a, node_b = _end_node(link.a), _end_node(link.b)
@@ -307,37 +379,32 @@ def _link_part(pv, name: str, link, bodies: Mapping, index: Mapping, cgs: NDArra
         kind, "link")
     if drawn in ("spring", "beam", "link") and length < 2 * unit:
         drawn = "bushing"
+    outline = None
     if drawn == "spring":
-        radius = min(2.5 * unit, 0.18 * length) if length > 0 else 2.5 * unit
+        radius = min(2.5 * unit, 0.18 * length)
         turns = float(np.clip(length / (1.6 * radius), 3.0, 9.0))
-        line, s = helix(pa, pb, radius, turns)
-        poly = pv.lines_from_points(line)
-        poly.point_data["s"] = s
-        mesh = poly.tube(radius=0.22 * radius, n_sides=8, capping=False)
-        ghost = pv.lines_from_points(np.vstack([pa, pb]))
+        line, s_line = helix(pa, pb, radius, turns)
+        points, faces, owner = tube_mesh(line, 0.22 * radius, 8, helper=(pb - pa) / length)
+        s = s_line[owner]
+        outline = Geometry(np.vstack([pa, pb]), lines=np.array([2, 0, 1], np.int64))
     elif drawn == "bushing":
-        mesh = pv.Cube(center=pa, x_length=3 * unit, y_length=3 * unit, z_length=3 * unit,
-                       clean=False)
-        mesh.point_data["s"] = np.full(mesh.n_points, 0.5)
-        ghost = None
+        points, faces = box_mesh(pa, np.full(3, 1.5 * unit), np.eye(3))
+        s = np.full(len(points), 0.5)
     else:
-        poly = pv.lines_from_points(np.linspace(pa, pb, 12))
-        poly.point_data["s"] = np.linspace(0.0, 1.0, 12)
+        line = np.linspace(pa, pb, 12)
         radius = (0.9 if drawn == "beam" else 0.35) * unit
-        mesh = poly.tube(radius=radius, n_sides=10 if drawn == "beam" else 6, capping=True)
-        ghost = poly if drawn == "beam" else None
-    mesh = _with_double(mesh)
-    s = np.asarray(mesh.point_data["s"], dtype=float)
+        points, faces, owner = tube_mesh(line, radius, 10 if drawn == "beam" else 6)
+        s = np.linspace(0.0, 1.0, 12)[owner]
+        if drawn == "beam":
+            outline = Geometry(line, lines=np.array([12, *range(12)], np.int64))
     terms = []
     for node, point, weight in ((node_a, pa, 1.0 - s), (node_b, pb, s)):
         if node in index:
             i = index[node]
             maps = np.broadcast_to(point_maps((point - cgs[i])[None, :]), (len(s), 3, 6))
             terms.append(Term(i, maps, weight))
-    if ghost is not None:
-        ghost = _with_double(ghost)
-    return Part(f"{drawn}:{name}", drawn, mesh, PALETTE.get(drawn, PALETTE["link"]), terms,
-                ghost=ghost)
+    return Part(f"{drawn}:{name}", drawn, Geometry(points, faces),
+                PALETTE.get(drawn, PALETTE["link"]), terms, outline=outline, s=s)
 
 
 def _axes_parts(pv, origin: NDArray, length: float) -> list[Part]:
@@ -352,7 +419,8 @@ def _axes_parts(pv, origin: NDArray, length: float) -> list[Part]:
         text.translate(tip - np.asarray(text.center), inplace=True)
         if label != "z":      # lay the letters on the ground plane so they read from above
             text.translate((0, 0, 0.02 * length), inplace=True)
-        parts.append(Part(f"axes:{label}", "axes", _with_double(arrow.merge(text)), color))
+        surface = Geometry.merge([Geometry.of(m.triangulate()) for m in (arrow, text)])
+        parts.append(Part(f"axes:{label}", "axes", surface, color))
     return parts
 
 

@@ -28,7 +28,8 @@ from numpy.typing import ArrayLike, NDArray
 
 __all__ = [
     "NOMINAL_DENSITY", "principal_axes", "box_dimensions", "ellipsoid_semi_axes",
-    "solid_size", "helix", "box_corners",
+    "solid_size", "helix", "box_corners", "box_mesh", "box_edges", "ellipsoid_mesh",
+    "ellipse_rings", "cylinder_mesh", "tube_mesh", "SPHERE",
 ]
 
 #: Density (kg/m^3) used to size a body that has mass but no rotary inertia.
@@ -144,3 +145,125 @@ def helix(a: ArrayLike, b: ArrayLike, radius: float, turns: float,
     s = np.concatenate([[0.0], s_coil, [1.0]])
     points = np.vstack([a, coil, b])
     return points, s
+
+
+# ---------------------------------------------------------------- meshes in numpy
+# Surfaces as (points n x 3, faces) with faces in VTK's flat layout
+# ([count, i0, i1, ...] per cell), built without pyvista so a scene of
+# thousands of bodies costs array arithmetic, not thousands of VTK objects.
+
+# Corner k of box_corners has signs (x, y, z) from the bits of k (z lowest);
+# each face is listed anticlockwise seen from outside (outward normal).
+_BOX_FACES = ((0, 1, 3, 2), (4, 6, 7, 5), (0, 4, 5, 1), (2, 3, 7, 6), (0, 2, 6, 4), (1, 5, 7, 3))
+
+
+def box_mesh(center: ArrayLike, half: ArrayLike, axes: ArrayLike) -> tuple[NDArray, NDArray]:
+    """A box as 24 points (four per face, for flat shading) and six quads."""
+    corners = box_corners(center, half, axes)
+    points = np.vstack([corners[list(face)] for face in _BOX_FACES])
+    faces = np.hstack([[4, 4 * k, 4 * k + 1, 4 * k + 2, 4 * k + 3] for k in range(6)])
+    return points, faces.astype(np.int64)
+
+
+def box_edges(center: ArrayLike, half: ArrayLike, axes: ArrayLike) -> tuple[NDArray, NDArray]:
+    """The twelve edges of a box: its 8 corners and VTK line cells."""
+    corners = box_corners(center, half, axes)
+    pairs = [(a, b) for a in range(8) for b in range(a + 1, 8) if bin(a ^ b).count("1") == 1]
+    return corners, np.hstack([[2, a, b] for a, b in pairs]).astype(np.int64)
+
+
+def _sphere_template(rings: int = 12, segments: int = 24) -> tuple[NDArray, NDArray]:
+    phi = np.linspace(0.0, np.pi, rings + 1)[1:-1]
+    theta = np.linspace(0.0, 2 * np.pi, segments, endpoint=False)
+    ring = np.stack([np.outer(np.sin(phi), np.cos(theta)), np.outer(np.sin(phi), np.sin(theta)),
+                     np.outer(np.cos(phi), np.ones_like(theta))], axis=-1).reshape(-1, 3)
+    points = np.vstack([[0.0, 0.0, 1.0], ring, [0.0, 0.0, -1.0]])
+    bottom = len(points) - 1
+    cells = []
+    for j in range(segments):                      # caps
+        cells.append([3, 0, 1 + j, 1 + (j + 1) % segments])
+        base = 1 + (rings - 2) * segments
+        cells.append([3, bottom, base + (j + 1) % segments, base + j])
+    for r in range(rings - 2):                     # bands
+        for j in range(segments):
+            a = 1 + r * segments + j
+            b = 1 + r * segments + (j + 1) % segments
+            cells.append([4, a, a + segments, b + segments, b])
+    return points, np.hstack(cells).astype(np.int64)
+
+
+SPHERE = _sphere_template()
+
+
+def ellipsoid_mesh(center: ArrayLike, semi: ArrayLike, axes: ArrayLike,
+                   template: tuple[NDArray, NDArray] = SPHERE) -> tuple[NDArray, NDArray]:
+    """An ellipsoid (semi-axes along the columns of ``axes``) from a unit-sphere template."""
+    unit, faces = template
+    return np.asarray(center, float) + (unit * np.asarray(semi, float)) @ np.asarray(axes).T, faces
+
+
+def ellipse_rings(center: ArrayLike, semi: ArrayLike, axes: ArrayLike,
+                  segments: int = 36) -> tuple[NDArray, NDArray]:
+    """The three principal outlines of an ellipsoid as closed polylines."""
+    t = np.linspace(0.0, 2 * np.pi, segments, endpoint=False)
+    c, s = np.cos(t), np.sin(t)
+    rings = []
+    for i, j in ((0, 1), (1, 2), (0, 2)):
+        unit = np.zeros((segments, 3))
+        unit[:, i], unit[:, j] = c, s
+        rings.append(unit)
+    unit = np.vstack(rings)
+    points = np.asarray(center, float) + (unit * np.asarray(semi, float)) @ np.asarray(axes).T
+    lines = np.hstack([[segments + 1, *range(k * segments, (k + 1) * segments), k * segments]
+                       for k in range(3)])
+    return points, lines.astype(np.int64)
+
+
+def cylinder_mesh(center: ArrayLike, radius: float, height: float,
+                  segments: int = 24) -> tuple[NDArray, NDArray]:
+    """A closed vertical cylinder (axis z) as points and cells."""
+    t = np.linspace(0.0, 2 * np.pi, segments, endpoint=False)
+    ring = np.column_stack([radius * np.cos(t), radius * np.sin(t), np.zeros(segments)])
+    c = np.asarray(center, float)
+    lo = c + ring - [0, 0, height / 2]
+    hi = c + ring + [0, 0, height / 2]
+    points = np.vstack([lo, hi])
+    cells = [[4, j, (j + 1) % segments, segments + (j + 1) % segments, segments + j]
+             for j in range(segments)]
+    cells.append([segments, *range(segments - 1, -1, -1)])
+    cells.append([segments, *range(segments, 2 * segments)])
+    return points, np.hstack(cells).astype(np.int64)
+
+
+def tube_mesh(line: ArrayLike, radius: float, sides: int = 8,
+              helper: ArrayLike | None = None) -> tuple[NDArray, NDArray, NDArray]:
+    """A tube of ``radius`` around a polyline: (points, quads, index of the line point).
+
+    Each ring of ``sides`` points sits in the plane normal to the local
+    tangent; ``helper`` (default: the least-aligned global axis per ring)
+    fixes the ring's first direction. The third array gives, for every tube
+    point, the polyline point it rings (to carry per-point data across).
+    """
+    line = np.asarray(line, dtype=float)
+    n = len(line)
+    tangent = np.gradient(line, axis=0)
+    tangent /= np.maximum(np.linalg.norm(tangent, axis=1, keepdims=True), 1e-300)
+    if helper is None:
+        pick = np.argmin(np.abs(tangent), axis=1)
+        aid = np.eye(3)[pick]
+    else:
+        aid = np.broadcast_to(np.asarray(helper, float), (n, 3))
+    e1 = np.cross(tangent, aid)
+    bad = np.linalg.norm(e1, axis=1) < 1e-6
+    if bad.any():
+        e1[bad] = np.cross(tangent[bad], np.eye(3)[np.argmin(np.abs(tangent[bad]), axis=1)])
+    e1 /= np.linalg.norm(e1, axis=1, keepdims=True)
+    e2 = np.cross(tangent, e1)
+    angle = np.linspace(0.0, 2 * np.pi, sides, endpoint=False)
+    ring = (np.cos(angle)[None, :, None] * e1[:, None, :]
+            + np.sin(angle)[None, :, None] * e2[:, None, :])
+    points = (line[:, None, :] + radius * ring).reshape(-1, 3)
+    cells = [[4, i * sides + j, i * sides + (j + 1) % sides, (i + 1) * sides + (j + 1) % sides,
+              (i + 1) * sides + j] for i in range(n - 1) for j in range(sides)]
+    owner = np.repeat(np.arange(n), sides)
+    return points, np.hstack(cells).astype(np.int64), owner
