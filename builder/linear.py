@@ -30,7 +30,7 @@ from .elements import LINK_TYPES, ElementMatrices
 from .errors import InputError, Where
 from .kinematics import DOF_NAMES, motion_map
 
-__all__ = ["LinearModel", "assemble", "GRAVITY"]
+__all__ = ["LinearModel", "LinkMap", "assemble", "GRAVITY"]
 
 GRAVITY = 9.80665  # m/s^2, standard gravity
 
@@ -112,13 +112,27 @@ class LinearModel:
         expansion to the full model."""
         if self.parent is not None:
             return sp.csr_array(self.parent.body_map(body, at) @ self.expansion)
+        cols, T = self.body_point(body, at)
+        rows, cc = np.nonzero(T)
+        return sp.csr_array((T[rows, cc], (rows, cols[cc])), shape=(6, self.n))
+
+    def body_point(self, body: str, at: np.ndarray | None = None
+                   ) -> tuple[np.ndarray, np.ndarray]:
+        """(DOF indices, 6 x k dense map) of a body point's motion in an unreduced model."""
         b = self.assembly.bodies[body]
-        cols = [self.dofs.index(f"{body}.{d}") for d in b.dofs]
+        start = self._body_start[body]
+        cols = np.arange(start, start + len(b.dofs))
         sel = [DOF_NAMES.index(d) for d in b.dofs]
         r = np.zeros(3) if at is None else np.asarray(at, float) - b.cg
-        T = motion_map(r)[:, sel]
-        rows, cc = np.nonzero(T)
-        return sp.csr_array((T[rows, cc], (rows, np.asarray(cols)[cc])), shape=(6, self.n))
+        return cols, motion_map(r)[:, sel]
+
+    @property
+    def _body_start(self) -> dict[str, int]:
+        starts, pos = {}, 0
+        for b in self.assembly.bodies.values():
+            starts[b.name] = pos
+            pos += len(b.dofs)
+        return starts
 
     def force_input(self, body: str, at: np.ndarray | None, direction: Any) -> np.ndarray:
         """Generalised force (n,) of a unit force along ``direction`` (3-vector, N)
@@ -183,20 +197,23 @@ class _Triplets:
     def add(self, rows: np.ndarray, cols: np.ndarray, block: np.ndarray) -> None:
         if len(rows) == 0 or len(cols) == 0:
             return
-        r, c = np.meshgrid(rows, cols, indexing="ij")
-        self.rows.append(r.ravel())
-        self.cols.append(c.ravel())
+        self.rows.append(np.repeat(rows, len(cols)))
+        self.cols.append(np.tile(cols, len(rows)))
         self.vals.append(np.asarray(block, float).ravel())
 
     def matrix(self, symmetric: bool = False) -> sp.csr_array:
-        if self.rows:
-            m = sp.coo_array((np.concatenate(self.vals),
-                              (np.concatenate(self.rows), np.concatenate(self.cols))),
-                             shape=self.shape).tocsr()
-        else:
-            m = sp.csr_array(self.shape)
+        """The summed sparse matrix; ``symmetric`` averages it with its transpose
+        (exact symmetry, whatever the round-off of the element products)."""
+        if not self.rows:
+            return sp.csr_array(self.shape)
+        r, c, v = (np.concatenate(x) for x in (self.rows, self.cols, self.vals))
+        if symmetric:  # fold onto the upper triangle, averaging (i, j) and (j, i), then mirror
+            v = np.where(r == c, v, 0.5 * v)
+            r, c = np.minimum(r, c), np.maximum(r, c)
+        m = sp.csr_array((v, (r, c)), shape=self.shape)
+        m.sum_duplicates()
         if symmetric:
-            m = ((m + m.T) * 0.5).tocsr()
+            m = (m + sp.triu(m, k=1).T).tocsr()
         m.eliminate_zeros()
         return m
 
@@ -244,27 +261,31 @@ def assemble(assembly: Assembly) -> LinearModel:
 
     mats = {"K": _Triplets((n, n)), "C": _Triplets((n, n)), "H": _Triplets((n, n))}
     bmat = {"K": _Triplets((n, nr)), "C": _Triplets((n, nr)), "H": _Triplets((n, nr))}
-    link_maps: dict[str, Any] = {}
+    link_maps: dict[str, LinkMap] = {}
     for link in assembly.links.values():
         if link.type not in LINK_TYPES:
             raise InputError(f'unknown link type "{link.type}"', link.where)
         em: ElementMatrices = LINK_TYPES[link.type].matrices(link)
         ends = (_end_map(link.a, em.points[0], assembly, offsets, inputs),
                 _end_map(link.b, em.points[1], assembly, offsets, inputs))
+        # one map from the element's 12 point motions to its ends' body DOFs
+        cols = np.concatenate([ends[0].cols, ends[1].cols])
+        T = np.zeros((12, len(cols)))
+        T[:6, :len(ends[0].cols)] = ends[0].T
+        T[6:, len(ends[0].cols):] = ends[1].T
+        roads = [(6 * i, e.road) for i, e in enumerate(ends) if e.road >= 0]
         for key, E in (("K", em.K), ("C", em.C), ("H", em.H)):
             if not E.any():
                 continue
-            for i, ei in enumerate(ends):
-                if not len(ei.cols):
-                    continue
-                for j, ej in enumerate(ends):
-                    blk = E[6 * i:6 * i + 6, 6 * j:6 * j + 6]
-                    if len(ej.cols):
-                        mats[key].add(ei.cols, ej.cols, ei.T.T @ blk @ ej.T)
-                    elif ej.road >= 0:
-                        bmat[key].add(ei.cols, np.array([ej.road]),
-                                      -(ei.T.T @ blk @ _EZ)[:, None])
-        link_maps[link.name] = _link_deflection(em, ends, n, nr)
+            mats[key].add(cols, cols, T.T @ E @ T)
+            for off, j in roads:
+                bmat[key].add(cols, np.array([j]), -(T.T @ E[:, off:off + 6] @ _EZ)[:, None])
+        link_maps[link.name] = LinkMap(
+            cols, em.deflection @ T,
+            np.array([j for _, j in roads], dtype=int),
+            np.column_stack([em.deflection[:, off:off + 6] @ _EZ for off, _ in roads])
+            if roads else np.zeros((em.deflection.shape[0], 0)),
+            em.stiffness, em.damping, em.loss_factor, em.components, em.units, n, nr)
 
     K = mats["K"].matrix(True)
     model_inputs = tuple(inputs)
@@ -280,60 +301,71 @@ def assemble(assembly: Assembly) -> LinearModel:
     return _with_sensors(base, assembly)
 
 
-def _link_deflection(em: ElementMatrices, ends: tuple[_EndMap, _EndMap], n: int,
-                     nr: int) -> dict[str, Any]:
-    """Deflection components of a link as maps on q (m x n) and r (m x nr)."""
-    m = em.deflection.shape[0]
-    Q = _Triplets((m, n))
-    R = _Triplets((m, nr))
-    rows = np.arange(m)
-    for i, e in enumerate(ends):
-        Di = em.deflection[:, 6 * i:6 * i + 6]
-        if len(e.cols):
-            Q.add(rows, e.cols, Di @ e.T)
-        elif e.road >= 0:
-            R.add(rows, np.array([e.road]), (Di @ _EZ)[:, None])
-    return {"q": Q.matrix(), "r": R.matrix(), "stiffness": em.stiffness, "damping": em.damping,
-            "loss_factor": em.loss_factor,
-            "components": em.components, "units": em.units}
+@dataclass(frozen=True, eq=False)
+class LinkMap:
+    """A link's deflection components d = Dq q[cols] + Dr r[roads] (m or rad) and the
+    stiffness (N/m, N m/rad), damping and loss factor of each component."""
+
+    cols: np.ndarray
+    Dq: np.ndarray
+    roads: np.ndarray
+    Dr: np.ndarray
+    stiffness: np.ndarray
+    damping: np.ndarray
+    loss_factor: float
+    components: tuple[str, ...]
+    units: tuple[str, ...]
+    n: int
+    nr: int
+
+    def q_rows(self, rows: list[int] | None = None) -> sp.csr_array:
+        """Deflection components (all, or ``rows``) as a sparse map on q."""
+        D = self.Dq if rows is None else self.Dq[rows]
+        r, c = np.nonzero(D)
+        return sp.csr_array((D[r, c], (r, self.cols[c])), shape=(D.shape[0], self.n))
+
+    def r_rows(self, rows: list[int] | None = None) -> sp.csr_array:
+        """Deflection components as a sparse map on the road inputs."""
+        D = self.Dr if rows is None else self.Dr[rows]
+        r, c = np.nonzero(D)
+        return sp.csr_array((D[r, c], (r, self.roads[c])), shape=(D.shape[0], self.nr))
+
+    def deflection(self, q: np.ndarray) -> np.ndarray:
+        """Deflection components for a DOF vector q (road at rest)."""
+        return self.Dq @ np.asarray(q)[self.cols]
 
 
 def _with_sensors(model: LinearModel, assembly: Assembly) -> LinearModel:
-    n, nr = model.n, len(model.inputs)
-    rows = {k: [] for k in ("Sd", "Sv", "Sa", "Sh", "Dr", "Dv", "Dh")}
+    """Add the output maps of the assembly's sensors (built from triplets, once)."""
+    if not assembly.sensors:
+        return model
+    n, nr, ns = model.n, len(model.inputs), len(assembly.sensors)
+    q_maps = {k: _Triplets((ns, n)) for k in ("Sd", "Sv", "Sa", "Sh")}
+    r_maps = {k: _Triplets((ns, nr)) for k in ("Dr", "Dv", "Dh")}
     names, units, measures = [], [], []
-
-    def zero(width: int) -> sp.csr_array:
-        return sp.csr_array((1, width))
-
-    for s in assembly.sensors.values():
-        row = {k: zero(n) for k in ("Sd", "Sv", "Sa", "Sh")}
-        row.update({k: zero(nr) for k in ("Dr", "Dv", "Dh")})
+    for i, s in enumerate(assembly.sensors.values()):
+        row = np.array([i])
         if s.kind == "body":
-            T = model.body_map(s.target, s.at)
-            q = sp.csr_array(s.direction[None, :] @ T)
-            row[{"displacement": "Sd", "velocity": "Sv", "acceleration": "Sa"}[s.measure]] = q
+            cols, T = model.body_point(s.target, s.at)
+            key = {"displacement": "Sd", "velocity": "Sv", "acceleration": "Sa"}[s.measure]
+            q_maps[key].add(row, cols, (s.direction @ T)[None, :])
             rotational = bool(np.any(s.direction[3:]))
         else:
             lm = model.links[s.target]
             c = s.component
-            q, r = lm["q"][[c], :], lm["r"][[c], :]
-            rotational = lm["units"][c] == "rad"
-            if s.measure == "deflection":
-                row["Sd"], row["Dr"] = q, r
-            else:
-                k, d = lm["stiffness"][c], lm["damping"][c]
-                eta = lm["loss_factor"]
-                row["Sd"], row["Dr"] = q * k, r * k
-                row["Sv"], row["Dv"] = q * d, r * d
-                row["Sh"], row["Dh"] = q * (eta * k), r * (eta * k)
-        for k, v in row.items():
-            rows[k].append(sp.csr_array(v))
+            dq, dr = lm.Dq[[c]], lm.Dr[[c]]
+            rotational = lm.units[c] == "rad"
+            gains = ({"Sd": 1.0} if s.measure == "deflection" else
+                     {"Sd": lm.stiffness[c], "Sv": lm.damping[c],
+                      "Sh": lm.loss_factor * lm.stiffness[c]})
+            for key, g in gains.items():
+                if g:
+                    q_maps[key].add(row, lm.cols, g * dq)
+                    r_maps["D" + {"Sd": "r", "Sv": "v", "Sh": "h"}[key]].add(row, lm.roads,
+                                                                             g * dr)
         names.append(s.name)
         units.append(_UNIT[(s.measure, rotational)])
         measures.append(s.measure)
-    if not names:
-        return model
-    stacked = {k: sp.vstack(v).tocsr() for k, v in rows.items()}
+    stacked = {k: t.matrix() for k, t in {**q_maps, **r_maps}.items()}
     return replace(model, sensors=tuple(names), sensor_units=tuple(units),
                    sensor_measures=tuple(measures), **stacked)

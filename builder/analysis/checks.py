@@ -17,6 +17,7 @@ import numpy as np
 
 from ..eigen import lowest_modes
 from ..linear import GRAVITY, LinearModel
+from .modes import RIGID_TOLERANCE
 
 __all__ = ["ModelChecks", "check_model"]
 
@@ -101,7 +102,7 @@ def check_model(model: LinearModel) -> ModelChecks:
     m_min = float(lowest_modes(model.M, _eye(n), 1)[0][0]) if n else 0.0
     Kd = np.abs(model.K.diagonal())
     scale = float(np.max(Kd / np.maximum(np.abs(model.M.diagonal()), 1e-300))) if n else 1.0
-    zero = int(np.sum(lam < 1e-9 * max(scale, 1e-300)))
+    zero = int(np.sum(lam < RIGID_TOLERANCE * max(scale, 1e-300)))
     anchored = any(lk.a.kind != "body" or lk.b.kind != "body" for lk in asm.links.values())
     note = ""
     if zero:
@@ -126,16 +127,16 @@ def _static(model: LinearModel) -> tuple[dict[str, Any], ...]:
     q = model.static_response(GRAVITY)
     out = []
     for name, lm in model.links.items():
-        d = np.asarray(lm["q"] @ q).ravel()
+        d = lm.deflection(q)
         if not len(d):
             continue
-        trans = [i for i, u in enumerate(lm["units"]) if u == "m"]
+        trans = [i for i, u in enumerate(lm.units) if u == "m"]
         pick = trans if trans else list(range(len(d)))
         c = max(pick, key=lambda i: abs(d[i]))
         delta = float(d[c])
-        force = float(lm["stiffness"][c] * delta)
+        force = float(lm.stiffness[c] * delta)
         implied = math.sqrt(GRAVITY / abs(delta)) / (2 * math.pi) \
-            if lm["units"][c] == "m" and abs(delta) > 1e-9 else None
-        out.append({"link": name, "component": lm["components"][c], "deflection": delta,
-                    "unit": lm["units"][c], "force": force, "implied_frequency_hz": implied})
+            if lm.units[c] == "m" and abs(delta) > 1e-9 else None
+        out.append({"link": name, "component": lm.components[c], "deflection": delta,
+                    "unit": lm.units[c], "force": force, "implied_frequency_hz": implied})
     return tuple(out)

@@ -24,17 +24,21 @@ from typing import Any
 
 import numpy as np
 import scipy.linalg
-from scipy.optimize import linear_sum_assignment
 
 from ..eigen import lowest_modes
 from ..linear import LinearModel
 
 __all__ = ["Mode", "ModeSet", "compute_modes", "mac", "mac_matrix", "label_mode",
-           "DEFAULT_COUNT"]
+           "DEFAULT_COUNT", "RIGID_TOLERANCE"]
 
 #: Modes computed by default for large models (all modes for small ones).
 DEFAULT_COUNT = 20
 _SMALL = 200  # models up to this size get exact damped modes per mode
+
+#: A mode is zero-frequency (rigid-body or mechanism) when omega^2 is below this
+#: fraction of the largest K_ii / M_ii of the model: far above round-off
+#: (about 1e-16 of it) and far below any physical mode.
+RIGID_TOLERANCE = 1e-11
 
 _WORDS = {"x": "fore-aft", "y": "lateral", "z": "bounce", "rx": "roll", "ry": "pitch",
           "rz": "yaw"}
@@ -142,7 +146,7 @@ def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
     Kd = np.abs(model.K.diagonal())
     Md = np.abs(model.M.diagonal())
     scale = float(np.max(Kd / np.where(Md > 0, Md, 1.0))) if n else 1.0
-    rigid = lam < 1e-9 * max(scale, 1e-300)
+    rigid = lam < RIGID_TOLERANCE * max(scale, 1e-300)
     omega = np.sqrt(np.clip(lam, 0.0, None))
     omega[rigid] = 0.0
     Mphi = np.asarray(model.M @ shapes)
@@ -193,7 +197,7 @@ def _damped(model: LinearModel, shapes: np.ndarray, omega: np.ndarray, rigid: np
     if model.n > _SMALL:
         return [_modal_estimate(model, shapes[:, i], omega[i], rigid[i]) for i in range(count)]
     M, K, C, H = (m.toarray() for m in (model.M, model.K, model.C, model.H))
-    cache: dict[float, tuple[np.ndarray, np.ndarray]] = {}
+    cache: dict[float, tuple[np.ndarray, np.ndarray, dict[int, int]]] = {}
     has_h = model.H.nnz > 0
     for i in range(count):
         if rigid[i]:
@@ -201,9 +205,10 @@ def _damped(model: LinearModel, shapes: np.ndarray, omega: np.ndarray, rigid: np
             continue
         key = float(omega[i]) if has_h else 0.0
         if key not in cache:
-            cache[key] = _state_roots(M, K, C + (H / omega[i] if has_h else 0.0))
-        s, psi = cache[key]
-        out.append(_pair(i, s, psi, shapes, omega))
+            s, psi = _state_roots(M, K, C + (H / omega[i] if has_h else 0.0))
+            cache[key] = (s, psi, _assign(s, psi, shapes))
+        s, psi, assigned = cache[key]
+        out.append(_pair(i, s, psi, shapes, assigned[i]))
     return out
 
 
@@ -215,21 +220,28 @@ def _state_roots(M: np.ndarray, K: np.ndarray, C: np.ndarray) -> tuple[np.ndarra
     return s, v[:n]
 
 
-def _pair(i: int, s: np.ndarray, psi: np.ndarray, shapes: np.ndarray, omega: np.ndarray
-          ) -> tuple[float | None, float | None, bool, tuple[complex, ...]]:
-    """Pick the state-space root(s) belonging to undamped mode i by MAC."""
+def _assign(s: np.ndarray, psi: np.ndarray, shapes: np.ndarray) -> dict[int, int]:
+    """Mode index -> state-space root index, one-to-one by MAC (Hungarian assignment),
+    over the roots with Im(s) >= 0 (one of each conjugate pair, and the real ones)."""
+    from scipy.optimize import linear_sum_assignment
+
     tol = 1e-9 * max(np.abs(s).max(), 1e-300)
     cand = np.flatnonzero(s.imag >= -tol)
     macs = mac_matrix(shapes, psi[:, cand])
-    # one-to-one assignment of modes to candidate roots keeps close modes apart
     rows, cols = linear_sum_assignment(1.0 - macs)
-    j = cand[cols[list(rows).index(i)]] if i in rows else cand[np.argmax(macs[i])]
+    return {int(r): int(cand[c]) for r, c in zip(rows, cols)}
+
+
+def _pair(i: int, s: np.ndarray, psi: np.ndarray, shapes: np.ndarray, j: int
+          ) -> tuple[float | None, float | None, bool, tuple[complex, ...]]:
+    """Damping of undamped mode i from its assigned state-space root j."""
+    tol = 1e-9 * max(np.abs(s).max(), 1e-300)
     root = s[j]
     if abs(root.imag) > tol:
         wn = abs(root)
         return (float(-root.real / wn), float(abs(root.imag) / (2 * math.pi)), False,
                 (complex(root), complex(np.conj(root))))
-    real = [k for k in cand if abs(s[k].imag) <= tol and k != j]
+    real = [k for k in np.flatnonzero(np.abs(s.imag) <= tol) if k != j]
     if not real:
         return (None, None, True, (complex(root),))
     k = max(real, key=lambda k: mac(shapes[:, i], psi[:, k]))
@@ -265,17 +277,17 @@ def label_mode(model: LinearModel, shape: np.ndarray, energy: np.ndarray) -> str
     rather than bounces.
     """
     dofs = model.dofs
-    per_body: dict[str, list[int]] = {}
-    for j, d in enumerate(dofs):
-        per_body.setdefault(d.rsplit(".", 1)[0], []).append(j)
+    per_body = _dofs_per_body(dofs)
     e = np.clip(np.asarray(energy, float), 0.0, None)
     total = e.sum() or 1.0
-    ranked = sorted(per_body, key=lambda b: -e[per_body[b]].sum())
+    names = list(per_body)
+    body_energy = np.array([e[per_body[b]].sum() for b in names])
+    order = np.argsort(-body_energy, kind="stable")[:4]
     chosen, acc = [], 0.0
-    for b in ranked:
-        chosen.append(b)
-        acc += e[per_body[b]].sum() / total
-        if acc >= 0.8 or len(chosen) == 4:
+    for k in order:
+        chosen.append(names[k])
+        acc += body_energy[k] / total
+        if acc >= 0.8:
             break
     parts = []
     for b in chosen:
@@ -300,11 +312,27 @@ def label_mode(model: LinearModel, shape: np.ndarray, energy: np.ndarray) -> str
     return f"{' + '.join(words)} ({phase})"
 
 
+def _dofs_per_body(dofs: tuple[str, ...]) -> dict[str, list[int]]:
+    out: dict[str, list[int]] = {}
+    for j, d in enumerate(dofs):
+        out.setdefault(d.rsplit(".", 1)[0], []).append(j)
+    return out
+
+
+def _on_road(model: LinearModel) -> set[str]:
+    if model.assembly is None:
+        return set()
+    out = set()
+    for lk in model.assembly.links.values():
+        if lk.b.kind == "road":
+            out.add(lk.a.node)
+        if lk.a.kind == "road":
+            out.add(lk.b.node)
+    return out
+
+
 def _word(model: LinearModel, body: str, dof: str) -> str:
-    if dof == "z" and model.assembly is not None and any(
-            (lk.a.node == body and lk.b.kind == "road") or
-            (lk.b.node == body and lk.a.kind == "road")
-            for lk in model.assembly.links.values()):
+    if dof == "z" and body in _on_road(model):
         return "hop"
     return _WORDS.get(dof, dof)
 

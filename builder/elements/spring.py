@@ -64,8 +64,9 @@ class Spring:
         D[0, 0:3], D[0, 6:9] = -n, n
         pa = np.asarray(link.a.at, float)
         return ElementMatrices.from_components(
-            (pa, _line_point(pa, n, np.asarray(link.b.at, float))), D, np.array([p["stiffness"]]), np.array([p["damping"]]),
-            p["loss_factor"], ("axial",), ("m",))
+            (pa, _line_point(pa, n, np.asarray(link.b.at, float))), D,
+            np.array([p["stiffness"]]), np.array([p["damping"]]), p["loss_factor"],
+            ("axial",), ("m",))
 
 
 def _line_point(pa: np.ndarray, n: np.ndarray, pb: np.ndarray) -> np.ndarray:
