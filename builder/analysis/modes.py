@@ -159,11 +159,13 @@ def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
         full_energy = full_shapes * np.asarray(full.M @ full_shapes)
     else:
         full, full_shapes, full_energy = model, shapes, energies
+    context = _LabelContext.of(full)
     modes = []
     for i in range(count):
         energy = {d: float(e) for d, e in zip(model.dofs, energies[:, i])}
         zeta, fd, over, roots = damping[i]
-        label = "rigid" if rigid[i] else label_mode(full, full_shapes[:, i], full_energy[:, i])
+        label = "rigid" if rigid[i] else label_mode(full, full_shapes[:, i], full_energy[:, i],
+                                                    context)
         modes.append(Mode(i + 1, float(omega[i] / (2 * math.pi)), zeta, fd, label,
                           shapes[:, i].copy(), energy, bool(rigid[i]), over, roots))
     notes = []
@@ -267,7 +269,33 @@ def _modal_estimate(model: LinearModel, phi: np.ndarray, w: float, rigid: bool
 
 # ------------------------------------------------------------------ labels --
 
-def label_mode(model: LinearModel, shape: np.ndarray, energy: np.ndarray) -> str:
+@dataclass(frozen=True)
+class _LabelContext:
+    """What labels need from a model, computed once per mode set."""
+
+    per_body: dict[str, list[int]]
+    on_road: frozenset[str]
+    cg_x: float
+
+    @staticmethod
+    def of(model: LinearModel) -> _LabelContext:
+        per_body: dict[str, list[int]] = {}
+        for j, d in enumerate(model.dofs):
+            per_body.setdefault(d.rsplit(".", 1)[0], []).append(j)
+        on_road: set[str] = set()
+        cg_x = 0.0
+        if model.assembly is not None:
+            for lk in model.assembly.links.values():
+                if lk.b.kind == "road":
+                    on_road.add(lk.a.node)
+                if lk.a.kind == "road":
+                    on_road.add(lk.b.node)
+            cg_x = float(model.assembly.mass_properties()[1][0])
+        return _LabelContext(per_body, frozenset(on_road), cg_x)
+
+
+def label_mode(model: LinearModel, shape: np.ndarray, energy: np.ndarray,
+               context: _LabelContext | None = None) -> str:
     """A short description of a mode from its dominant DOFs and their phase.
 
     Energy is summed per body; the bodies holding most of it (80 %) are
@@ -277,7 +305,8 @@ def label_mode(model: LinearModel, shape: np.ndarray, energy: np.ndarray) -> str
     rather than bounces.
     """
     dofs = model.dofs
-    per_body = _dofs_per_body(dofs)
+    ctx = context or _LabelContext.of(model)
+    per_body = ctx.per_body
     e = np.clip(np.asarray(energy, float), 0.0, None)
     total = e.sum() or 1.0
     names = list(per_body)
@@ -293,14 +322,14 @@ def label_mode(model: LinearModel, shape: np.ndarray, energy: np.ndarray) -> str
     for b in chosen:
         idx = sorted(per_body[b], key=lambda j: -e[j])
         main = idx[0]
-        word = _word(model, b, dofs[main].rsplit(".", 1)[1])
+        word = _word(ctx, b, dofs[main].rsplit(".", 1)[1])
         second = [j for j in idx[1:] if e[j] >= 0.25 * e[main]]
         if second:
-            word += " with " + _word(model, b, dofs[second[0]].rsplit(".", 1)[1])
+            word += " with " + _word(ctx, b, dofs[second[0]].rsplit(".", 1)[1])
         parts.append((b, dofs[main], word, float(np.sign(shape[main]) or 1.0)))
     if len(parts) == 1:
         return f"{parts[0][0]} {parts[0][2]}"
-    pair = _pair_words(model, parts[:2]) if len(parts) >= 2 else None
+    pair = _pair_words(model, ctx, parts[:2]) if len(parts) >= 2 else None
     if pair and len(parts) == 2:
         return pair
     words = [f"{b} {w}" for b, _, w, _ in parts]
@@ -312,32 +341,14 @@ def label_mode(model: LinearModel, shape: np.ndarray, energy: np.ndarray) -> str
     return f"{' + '.join(words)} ({phase})"
 
 
-def _dofs_per_body(dofs: tuple[str, ...]) -> dict[str, list[int]]:
-    out: dict[str, list[int]] = {}
-    for j, d in enumerate(dofs):
-        out.setdefault(d.rsplit(".", 1)[0], []).append(j)
-    return out
-
-
-def _on_road(model: LinearModel) -> set[str]:
-    if model.assembly is None:
-        return set()
-    out = set()
-    for lk in model.assembly.links.values():
-        if lk.b.kind == "road":
-            out.add(lk.a.node)
-        if lk.a.kind == "road":
-            out.add(lk.b.node)
-    return out
-
-
-def _word(model: LinearModel, body: str, dof: str) -> str:
-    if dof == "z" and body in _on_road(model):
+def _word(ctx: _LabelContext, body: str, dof: str) -> str:
+    if dof == "z" and body in ctx.on_road:
         return "hop"
     return _WORDS.get(dof, dof)
 
 
-def _pair_words(model: LinearModel, parts: list[tuple[str, str, str, float]]) -> str | None:
+def _pair_words(model: LinearModel, ctx: _LabelContext,
+                parts: list[tuple[str, str, str, float]]) -> str | None:
     (b1, d1, w1, s1), (b2, d2, w2, s2) = parts
     if w1 != w2 or d1.rsplit(".", 1)[1] != d2.rsplit(".", 1)[1] or model.assembly is None:
         return None
@@ -348,8 +359,7 @@ def _pair_words(model: LinearModel, parts: list[tuple[str, str, str, float]]) ->
     mirrored = abs(c1[0] - c2[0]) < 0.05 and abs(c1[1] + c2[1]) < 0.05 and abs(c1[1]) > 0.05
     if not mirrored:
         return None
-    _, cg, _ = model.assembly.mass_properties()
-    where = "front" if c1[0] > cg[0] else "rear"
+    where = "front" if c1[0] > ctx.cg_x else "rear"
     common = _common_stem(b1, b2)
     noun = f"{common}s" if common else f"{b1}/{b2}"
     phase = "in phase" if s1 == s2 else "opposed"
