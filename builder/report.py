@@ -30,11 +30,15 @@ import math
 import os
 from collections.abc import Callable, Sequence
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from .errors import InputError, LumpgraphError, Where
+
+if TYPE_CHECKING:
+    from .assembly import Assembly
+    from .linear import LinearModel
 
 __all__ = ["CAUTION", "report_html", "write_report", "data_uri", "REPORT_NAME"]
 
@@ -352,7 +356,7 @@ def _any_table(table: Any) -> str:
 
 # ---------------------------------------------------------------- the page
 
-def report_html(assembly: Any, model: Any, *, sheet: int = 12, road_class: str = "B",
+def report_html(assembly: Assembly, model: LinearModel, *, sheet: int = 12, road_class: str = "B",
                 speed_m_s: float = 80.0 / 3.6, modes: Any = None) -> str:
     """The report page as HTML text (images embedded).
 
@@ -389,7 +393,8 @@ def report_html(assembly: Any, model: Any, *, sheet: int = 12, road_class: str =
     return "\n".join(p for p in parts if p)
 
 
-def write_report(assembly: Any, model: Any, out_dir: str | os.PathLike, **options: Any) -> Path:
+def write_report(assembly: Assembly, model: LinearModel, out_dir: str | os.PathLike,
+                 **options: Any) -> Path:
     """Write ``out_dir/report.html`` (the folder is created if missing); returns its path."""
     from .io import write_atomic
 

@@ -41,7 +41,7 @@ def _number(value: Any) -> float:
     return float("nan") if value is None else float(value)
 
 
-def scene_blocks(scene: Scene, dofs: Sequence[str], modes: Any):
+def scene_blocks(scene: Scene, dofs: Sequence[str], modes: Any) -> Any:
     """The scene as a ``pyvista.MultiBlock`` with each mode's point data (see module doc)."""
     pv = import_pyvista()
     chosen = mode_list(modes)

@@ -27,12 +27,16 @@ from __future__ import annotations
 import os
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from types import ModuleType
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import InputError
+
+if TYPE_CHECKING:
+    from ..assembly import Assembly
 from .shapes import (
     box_edges,
     box_mesh,
@@ -75,7 +79,7 @@ PALETTE: dict[str, Any] = {
 SPATIAL = ("x", "y", "z", "rx", "ry", "rz")
 
 
-def import_pyvista():
+def import_pyvista() -> ModuleType:
     """Import pyvista set up for off-screen CPU rendering (EGL when there is no display)."""
     if not os.environ.get("DISPLAY") and "VTK_DEFAULT_OPENGL_WINDOW" not in os.environ:
         os.environ["VTK_DEFAULT_OPENGL_WINDOW"] = "vtkEGLRenderWindow"
@@ -131,7 +135,7 @@ class Geometry:
                         np.concatenate(faces) if faces else np.zeros(0, np.int64),
                         np.concatenate(lines) if lines else np.zeros(0, np.int64))
 
-    def polydata(self):
+    def polydata(self) -> Any:
         """A pyvista PolyData of these arrays (float64 points)."""
         pv = import_pyvista()
         points = np.ascontiguousarray(self.points, dtype=float)
@@ -173,7 +177,7 @@ class Part:
         return bool(self.terms)
 
     @property
-    def mesh(self):
+    def mesh(self) -> Any:
         """The geometry as a pyvista PolyData (built once), with ``s`` as point data."""
         if self._mesh is None:
             self._mesh = self.geometry.polydata()
@@ -182,7 +186,7 @@ class Part:
         return self._mesh
 
     @property
-    def ghost(self):
+    def ghost(self) -> Any:
         """The outline as a pyvista PolyData, or None."""
         return None if self.outline is None else self.outline.polydata()
 
@@ -280,7 +284,7 @@ def _rigid_terms(i: int, points: NDArray, cg: NDArray) -> list[Term]:
     return [Term(i, point_maps(points - cg), np.ones(len(points)))]
 
 
-def build_scene(assembly, solid: str = "box") -> Scene:
+def build_scene(assembly: Assembly, solid: str = "box") -> Scene:
     """Build the undeformed scene of ``assembly`` (global axes, m).
 
     ``solid`` is ``"box"`` or ``"ellipsoid"``: the equivalent solid drawn for
