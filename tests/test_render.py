@@ -315,7 +315,8 @@ def test_sheet_size_layout_and_views(car):
     views = {m.label: choose_view(scene, model.dofs, m) for m in modes.modes}
     assert views["body pitch"] == "side" and views["body roll"] == "front"
     assert views["body bounce"] == "iso"
-    assert sheet_layout(12) == (3, 4) and sheet_layout(1) == (1, 1) and sheet_layout(3) == (2, 2)
+    assert sheet_layout(12) == (3, 4) and sheet_layout(1) == (1, 1) and sheet_layout(4) == (2, 2)
+    assert sheet_layout(8) == (2, 4) and sheet_layout(6) == (2, 3)
     for n in range(1, 30):
         rows, cols = sheet_layout(n)
         assert cols <= 4 and rows * cols >= n > (rows - 1) * cols

@@ -45,10 +45,19 @@ def mode_list(modes: Any) -> list[Any]:
 
 
 def sheet_layout(count: int) -> tuple[int, int]:
-    """(rows, columns) of a sheet of ``count`` panels: at most 4 columns, near 4:3 overall."""
+    """(rows, columns) of a sheet of ``count`` 4:3 panels, at most 4 columns.
+
+    The layout with the fewest empty cells wins, and between near ties the one
+    whose whole sheet is closest to a 16:10 landscape page.
+    """
     if count < 1:
         raise InputError(f"--sheet: need at least one mode, got {count}")
-    cols = min(4, max(1, math.ceil(math.sqrt(count * 4.0 / 3.0))), count)
+
+    def cost(cols: int) -> float:
+        rows = math.ceil(count / cols)
+        return 0.35 * (rows * cols - count) + abs(math.log((cols * 4.0) / (rows * 3.0) / 1.6))
+
+    cols = min(range(1, min(4, count) + 1), key=cost)
     return math.ceil(count / cols), cols
 
 
@@ -83,7 +92,7 @@ def render_sheet(scene: Scene, dofs: Sequence[str], modes: Any, count: int = 12,
     pv = import_pyvista()
     sheet = np.empty((height, width, 3), dtype=np.uint8)
     sheet[:] = np.array(pv.Color(PALETTE["ground_edges"]).int_rgb, dtype=np.uint8)
-    with ModeRenderer(scene, (pw, ph), scale=scale, scalar_bar=len(chosen) == 1) as renderer:
+    with ModeRenderer(scene, (pw, ph), scale=scale) as renderer:
         for k, mode in enumerate(chosen):
             field = mode_field(scene, dofs, _get(mode, "shape"))
             panel_view = view or choose_view(scene, dofs, mode)
