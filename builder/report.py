@@ -98,8 +98,20 @@ def _num(value: Any, digits: int = 4) -> str:
     return f"{v:.{digits}g}"
 
 
-def _table(header: Sequence[str], rows: Sequence[Sequence[Any]], left: Sequence[int] = (0,)) -> str:
-    """An HTML table; ``left`` lists the columns aligned left (text)."""
+#: Longest table of bodies, links, road points or sensors before it is cut.
+MAX_ROWS = 60
+
+
+def _table(header: Sequence[str], rows: Sequence[Sequence[Any]], left: Sequence[int] = (0,),
+           limit: int | None = None) -> str:
+    """An HTML table; ``left`` lists the columns aligned left (text).
+
+    With ``limit``, rows past it are left out and a last row says how many.
+    """
+    rows = list(rows)
+    if limit is not None and len(rows) > limit:
+        cut = len(rows) - limit
+        rows = rows[:limit] + [[f"... and {cut} more"] + [""] * (len(header) - 1)]
     def cell(tag: str, k: int, v: Any) -> str:
         cls = ' class="l"' if k in left else ""
         return f"<{tag}{cls}>{v}</{tag}>"
@@ -145,23 +157,25 @@ def _summary(assembly: Any, model: Any) -> str:
            f"{len(assembly.road)} road points, {len(assembly.sensors)} sensors; "
            f"model analysed: <b>{_e(model.name)}</b> with {len(model.dofs)} DOFs.</p>",
            "<h3>Bodies</h3>",
-           _table(["body", "mass (kg)", "cg (m)", "DOFs", "drawn as"], bodies, left=(0, 3, 4))]
+           _table(["body", "mass (kg)", "cg (m)", "DOFs", "drawn as"], bodies, left=(0, 3, 4),
+                  limit=MAX_ROWS)]
     links = []
     for link in assembly.links.values():
         links.append([_e(link.name), _e(link.type), _e(link.a.node), _e(link.b.node),
                       _e(_props_text(link.props))])
     if links:
         out += ["<h3>Links</h3>", _table(["link", "type", "end a", "end b", "properties (SI)"],
-                                         links, left=(0, 1, 2, 3, 4))]
+                                         links, left=(0, 1, 2, 3, 4), limit=MAX_ROWS)]
     if assembly.road:
         out += ["<h3>Road points</h3>",
                 _table(["road point", "at (m)"],
-                       [[_e(r.name), _vector(r.at)] for r in assembly.road.values()])]
+                       [[_e(r.name), _vector(r.at)] for r in assembly.road.values()],
+                       limit=MAX_ROWS)]
     if assembly.sensors:
         out += ["<h3>Sensors</h3>",
                 _table(["sensor", "measures", "on"],
                        [[_e(s.name), _e(s.measure), _e(s.target)]
-                        for s in assembly.sensors.values()], left=(0, 1, 2))]
+                        for s in assembly.sensors.values()], left=(0, 1, 2), limit=MAX_ROWS)]
     if assembly.plugins:
         out += ["<h3>Plugins applied</h3>",
                 _table(["plugin"], [[_e(_plugin_name(p))] for p in assembly.plugins])]

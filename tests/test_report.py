@@ -134,3 +134,12 @@ def test_report_command(run_cli, tmp_path):
     assert code == 2 and err.count("\n") == 1
     code, _, err = run_cli("report", QUARTER, "--out", tmp_path / "rep", "--depth", "nope")
     assert code == 2 and "nope" in err
+
+
+def test_long_tables_are_cut_with_a_count():
+    from builder.report import _table
+
+    page = _table(["body", "mass"], [[f"b{i}", str(i)] for i in range(75)], limit=60)
+    parsed = _parse(page)
+    assert not parsed.errors
+    assert page.count("<tr>") == 1 + 60 + 1 and "... and 15 more" in page
