@@ -5,9 +5,9 @@ A mode's shape (over the model's DOF labels) moves every drawn point by
 largest point amplitude ``scale`` times the vehicle's size (its largest
 extent), so modes of any normalisation look alike. A complex shape is first
 turned so its largest DOF entry is real and positive (a real one is used as
-it is); frame ``k`` of a cycle of ``N`` shows ``Re(shape * exp(2 pi i k / N))``. Colour is the point
-amplitude over the largest amplitude (0 to 1), the same in every frame; the
-undeformed scene is ghosted as outlines.
+it is); frame ``k`` of a cycle of ``N`` shows ``Re(shape * exp(2 pi i k / N))``.
+Colour is the point amplitude over the largest amplitude (0 to 1), the same
+in every frame; the undeformed scene is ghosted as outlines.
 
 Cameras use parallel projection and a fixed zoom per view for a scene, so
 frames and review-sheet panels are comparable. Views: ``side`` (from the
@@ -53,26 +53,11 @@ _DIRECTIONS = {
 
 
 def write_bytes(path: str | os.PathLike, data: bytes | str) -> Path:
-    """Write a file atomically through :func:`builder.io.write_atomic`."""
-    try:
-        from ..io import write_atomic
-    except ImportError:  # core helper not there yet: the same temp-then-rename
-        write_atomic = _write_atomic
+    """Write a file atomically (:func:`builder.io.write_atomic`) and return its path."""
+    from ..io import write_atomic
+
     write_atomic(Path(path), data)
     return Path(path)
-
-
-def _write_atomic(path: Path, data: bytes | str) -> None:
-    raw = data.encode() if isinstance(data, str) else data
-    path = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", dir=path.parent or ".")
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(raw)
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
 
 
 def phase_normalised(shape: ArrayLike) -> NDArray:
