@@ -56,7 +56,7 @@ from ..errors import InputError, Where
 
 __all__ = [
     "N0", "CLASSES", "TRACK_MODELS", "class_value", "classify", "spatial_psd",
-    "temporal_psd", "isotropic_coherence", "track_of", "road_cross_spectrum",
+    "temporal_psd", "isotropic_coherence", "track_of", "road_cross_spectrum", "road_time_inputs",
     "road_profile", "class_from_rms", "check_speed",
 ]
 
@@ -174,40 +174,112 @@ def _positions(positions: ArrayLike) -> NDArray:
     return p[:, :2]
 
 
+def _tracks(p: NDArray) -> tuple[NDArray, NDArray]:
+    """Track index of every point (by sign of y) and each track's lateral position (mean y)."""
+    side = np.sign(p[:, 1])
+    labels, index = np.unique(side, return_inverse=True)
+    lateral = np.array([p[index == i, 1].mean() for i in range(labels.size)])
+    return index, lateral
+
+
+def _track_coherence(n: NDArray, lateral: NDArray, tracks: str, waviness: float) -> NDArray:
+    """Coherence (nf, nt, nt) between tracks at spatial frequencies ``n`` (cycles/m)."""
+    nt = lateral.size
+    out = np.ones((n.size, nt, nt))
+    for a in range(nt):
+        for b in range(nt):
+            if a == b:
+                continue
+            if tracks == "independent":
+                out[:, a, b] = 0.0
+            elif tracks == "coherent":
+                out[:, a, b] = isotropic_coherence(n, lateral[a] - lateral[b], waviness)
+    return out
+
+
+def _check_tracks(tracks: str) -> None:
+    if tracks not in TRACK_MODELS:
+        raise InputError(f"unknown track model {tracks!r}: choose identical, independent or "
+                         "coherent", Where(field="--tracks"))
+
+
 def road_cross_spectrum(frequency_hz: ArrayLike, speed_m_s: float, positions: ArrayLike,
                         road_class: str | float, tracks: str = "coherent",
                         waviness: float = 2.0) -> NDArray[np.complex128]:
     """Cross-spectral matrix of the road displacements under ``np`` points, (nf, np, np).
 
     ``positions`` holds one row ``(x, y)`` (m) per road point (extra columns
-    ignored). Each point receives its track's profile delayed by
+    ignored). Points are grouped into tracks by the sign of ``y`` (left,
+    right, centre); a track's lateral position is the mean ``y`` of its
+    points. Each point receives its track's profile delayed by
     ``(x_front - x) / v``; ``S_jk(f) = G(f) c_jk(f) exp(-2 pi i f (tau_j - tau_k))``
     with ``c_jk = 1`` on one track and, across tracks, 1 (``identical``), 0
-    (``independent``) or the isotropic coherence at the lateral distance
-    ``|y_j - y_k|`` and ``n = f / v`` (``coherent``). Units m^2/Hz.
+    (``independent``) or the isotropic coherence at the tracks' lateral
+    distance and ``n = f / v`` (``coherent``). Units m^2/Hz.
     """
     v = check_speed(speed_m_s)
-    if tracks not in TRACK_MODELS:
-        raise InputError(f"unknown track model {tracks!r}: choose identical, independent or "
-                         "coherent", Where(field="--tracks"))
+    _check_tracks(tracks)
     f = np.asarray(frequency_hz, dtype=float).reshape(-1)
     p = _positions(positions)
     g = temporal_psd(f, v, road_class, waviness)
     delay = (p[:, 0].max() - p[:, 0]) / v
     phase = np.exp(-2j * np.pi * f[:, None] * delay[None, :])          # (nf, np)
-    side = np.sign(p[:, 1])
-    same = side[:, None] == side[None, :]
-    npt = p.shape[0]
-    coherence = np.ones((f.size, npt, npt))
-    if tracks == "independent":
-        coherence[:, ~same] = 0.0
-    elif tracks == "coherent":
-        for j in range(npt):
-            for k in range(npt):
-                if not same[j, k]:
-                    coherence[:, j, k] = isotropic_coherence(
-                        f / v, p[j, 1] - p[k, 1], waviness)
+    index, lateral = _tracks(p)
+    coherence = _track_coherence(f / v, lateral, tracks, waviness)[:, index][:, :, index]
     return g[:, None, None] * coherence * phase[:, :, None] * np.conj(phase[:, None, :])
+
+
+def road_time_inputs(duration_s: float, dt_s: float, speed_m_s: float, positions: ArrayLike,
+                     road_class: str | float, seed: int | None = None,
+                     tracks: str = "identical", waviness: float = 2.0,
+                     band_hz: Sequence[float] | None = None
+                     ) -> tuple[NDArray, NDArray, NDArray]:
+    """Random road displacement and velocity under every point, ``(t, r, r_dot)``.
+
+    ``N = round(duration / dt)`` samples; ``r`` and ``r_dot`` are (N, np) in
+    m and m/s. The record is one period of a sum of harmonics at
+    ``f_k = k / (N dt)`` with the deterministic amplitudes
+    ``sqrt(2 G(f_k) df)`` of the temporal PSD and random phases (``seed``),
+    built by inverse FFT; each point's delay is an exact phase shift, so the
+    rear wheels see the front profile ``(x_front - x) / v`` later (wrapped
+    around the period). Tracks: ``identical`` one profile, ``independent``
+    one per track, ``coherent`` correlated harmonic by harmonic through the
+    symmetric square root of the isotropic coherence matrix, so the
+    realisation's cross-spectrum is that of :func:`road_cross_spectrum`.
+    ``band_hz = (fmin, fmax)`` keeps only harmonics inside it.
+    """
+    v = check_speed(speed_m_s)
+    _check_tracks(tracks)
+    duration, dt = float(duration_s), float(dt_s)
+    if not (math.isfinite(duration) and math.isfinite(dt)) or dt <= 0 or duration < 4 * dt:
+        raise InputError(f"duration {duration_s!r} s must hold at least four steps of "
+                         f"{dt_s!r} s", Where(field="--duration"))
+    count = int(round(duration / dt))
+    p = _positions(positions)
+    f = np.fft.rfftfreq(count, dt)
+    g = temporal_psd(f, v, road_class, waviness)
+    g[0] = 0.0
+    if count % 2 == 0:
+        g[-1] = 0.0
+    if band_hz is not None:
+        fmin, fmax = (float(b) for b in band_hz)
+        g[(f < fmin) | (f > fmax)] = 0.0
+    amplitude = 0.5 * count * np.sqrt(2.0 * g / (count * dt))
+    index, lateral = _tracks(p)
+    rng = np.random.default_rng(seed)
+    if tracks == "identical":
+        unit = np.exp(1j * rng.uniform(0, 2 * np.pi, (f.size, 1))) * np.ones((1, lateral.size))
+    else:
+        base = np.exp(1j * rng.uniform(0, 2 * np.pi, (f.size, lateral.size)))
+        c = _track_coherence(f / v, lateral, tracks, waviness)
+        w, vec = np.linalg.eigh(c)
+        root = vec * np.sqrt(np.clip(w, 0.0, None))[:, None, :] @ np.swapaxes(vec, 1, 2)
+        unit = np.einsum("fab,fb->fa", root, base)
+    delay = (p[:, 0].max() - p[:, 0]) / v
+    spectrum = amplitude[:, None] * unit[:, index] * np.exp(-2j * np.pi * f[:, None] * delay)
+    r = np.fft.irfft(spectrum, count, axis=0)
+    r_dot = np.fft.irfft(2j * np.pi * f[:, None] * spectrum, count, axis=0)
+    return np.arange(count) * dt, r, r_dot
 
 
 def road_profile(length_m: float, dx_m: float, road_class: str | float, seed: int | None = None,
