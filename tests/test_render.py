@@ -461,6 +461,8 @@ def test_render_command_writes_each_kind(run_cli, tmp_path):
     (("--mode", "1", "--out", "x.jpg"), ".png"),
     (("--mode", "1", "--out", "x.png", "--size", "tiny"), "--size"),
     (("--mode", "1", "--out", "x.png", "--scale", "-1"), "--scale"),
+    (("--mode", "1", "--out", "x.gif", "--fps", "0"), "--fps"),
+    (("--mode", "1", "--out", "x.gif", "--frames", "1"), "--frames"),
 ])
 def test_render_command_refuses_bad_options(run_cli, tmp_path, monkeypatch, args, words):
     from pathlib import Path

@@ -18,7 +18,8 @@ variance. A road point at longitudinal position ``x`` meets the profile with
 the delay ``(x_front - x) / v`` behind the front-most point.
 
 Left and right tracks (points with ``y > 0`` and ``y < 0``; ``y = 0`` a centre
-track) are related in one of three ways:
+track; a track lies at the mean ``y`` of its points) are related in one of
+three ways:
 
 - ``identical``: one profile under every point (pure delay between points);
 - ``independent``: uncorrelated tracks with the same PSD;
@@ -35,6 +36,11 @@ track) are related in one of three ways:
   wavelengths much shorter than the track width. It follows from the
   isotropic spectrum ``S(kx, ky) ~ |k|^-(w+1)`` by integrating across the
   track (see :func:`isotropic_coherence`).
+
+:func:`road_profile` draws one track's profile along x and
+:func:`road_time_inputs` the displacement and velocity histories under every
+road point at speed ``v`` (for time-domain solvers), both by inverse FFT
+with random phases.
 
 The cross-spectral matrix follows the convention ``S_jk(f) = E[R_j R_k^*]``
 for the Fourier amplitudes ``R`` of the point displacements, so a linear

@@ -56,6 +56,10 @@ def run(args: argparse.Namespace) -> int:
         raise InputError("an animation needs --mode N", Where(field="--out"))
     if args.sheet is not None and suffix != "png":
         raise InputError("the review sheet is a .png", Where(field="--out"))
+    if not args.fps > 0:
+        raise InputError(f"must be positive, got {args.fps}", Where(field="--fps"))
+    if args.frames < 2:
+        raise InputError(f"need at least 2 frames, got {args.frames}", Where(field="--frames"))
     if args.scale is not None and not args.scale >= 0:
         raise InputError(f"must be a fraction >= 0, got {args.scale}", Where(field="--scale"))
 
