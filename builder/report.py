@@ -293,20 +293,33 @@ def _frf(model: Any) -> str:
         return ""
     import matplotlib
 
-    from .analysis.ride import road_frequency_response
-
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 
     f = np.geomspace(0.5, 50.0, 400)
-    H = road_frequency_response(model, f)          # nf x ns x nr
+    peaks = ""
+    try:
+        from .analysis.frf import frequency_response
+    except ImportError:
+        from .analysis.ride import road_frequency_response
+
+        H = road_frequency_response(model, f)       # nf x ns x nr
+    else:
+        response = frequency_response(model, f)
+        H = np.asarray(response.H)
+        rows = [[_e(p["input"]), _e(p["sensor"]), _num(p["peak"]), _num(p["frequency_hz"], 3),
+                 _e(p["unit"])] for p in response.peaks()]
+        peaks = ("<h3>Peak of each response</h3>"
+                 + _table(["road input", "sensor", "peak |H|", "at (Hz)", "unit"], rows,
+                          left=(0, 1, 4), limit=MAX_ROWS))
     combined = np.abs(H.sum(axis=2))                # every road point in phase
-    units = list(dict.fromkeys(getattr(model, "sensor_units", ()) or ["-"] * len(model.sensors)))
+    sensor_units = list(getattr(model, "sensor_units", ()) or ["-"] * len(model.sensors))
+    units = list(dict.fromkeys(sensor_units))
     fig, axes = plt.subplots(len(units), 1, figsize=(8.5, 2.6 * len(units) + 0.6),
                              squeeze=False, sharex=True)
     for ax, unit in zip(axes[:, 0], units, strict=True):
         for j, name in enumerate(model.sensors):
-            if (model.sensor_units[j] if getattr(model, "sensor_units", None) else "-") == unit:
+            if sensor_units[j] == unit:
                 ax.loglog(f, np.maximum(combined[:, j], 1e-300), label=name)
         ax.set_ylabel(f"|H| ({unit} per m)")
         ax.grid(True, which="both", alpha=0.3)
@@ -315,7 +328,7 @@ def _frf(model: Any) -> str:
     fig.suptitle(f"{model.name}: response to a unit road displacement at every road point "
                  "in phase", fontsize=10)
     fig.tight_layout()
-    return _img(_figure_png(fig), "frequency responses from the road")
+    return _img(_figure_png(fig), "frequency responses from the road") + peaks
 
 
 def _ride(model: Any, road_class: str, speed_m_s: float) -> str:

@@ -143,3 +143,28 @@ def test_long_tables_are_cut_with_a_count():
     parsed = _parse(page)
     assert not parsed.errors
     assert page.count("<tr>") == 1 + 60 + 1 and "... and 15 more" in page
+
+
+def test_report_road_response_peak_matches_the_quarter_car_transfer_function(quarter_report):
+    # Independent check: sympy solves the quarter car's Laplace-domain
+    # equations (Newton's second law on sprung and unsprung masses) for the
+    # body acceleration per unit road displacement, and scipy.signal.freqs
+    # evaluates it on the report's grid (0.5 to 50 Hz, 400 log-spaced points).
+    import scipy.signal
+    import sympy as sp
+
+    s, zs, zu = sp.symbols("s z_s z_u")
+    ms, mu, ks, cs, kt = 300, 36, 21000, 1500, 210000
+    eqs = [ms * s**2 * zs + cs * s * (zs - zu) + ks * (zs - zu),
+           mu * s**2 * zu - cs * s * (zs - zu) - ks * (zs - zu) + kt * (zu - 1)]
+    sol = sp.solve(eqs, [zs, zu], dict=True)[0]
+    num, den = sp.fraction(sp.together(s**2 * sol[zs]))
+    b = [float(c) for c in sp.Poly(num, s).all_coeffs()]
+    a = [float(c) for c in sp.Poly(den, s).all_coeffs()]
+    f = np.geomspace(0.5, 50.0, 400)
+    _, h = scipy.signal.freqs(b, a, worN=2 * np.pi * f)
+    k = int(np.argmax(np.abs(h)))
+    _, _, text = quarter_report
+    row = [line for line in text.split("<tr>") if "body_accel" in line and "road.contact" in line]
+    assert row, "no peak row for body_accel"
+    assert f"<td>{abs(h[k]):.4g}</td>" in row[0] and f"<td>{f[k]:.3g}</td>" in row[0]
