@@ -178,7 +178,9 @@ def _summary(assembly: Any, model: Any) -> str:
                         for s in assembly.sensors.values()], left=(0, 1, 2), limit=MAX_ROWS)]
     if assembly.plugins:
         out += ["<h3>Plugins applied</h3>",
-                _table(["plugin"], [[_e(_plugin_name(p))] for p in assembly.plugins])]
+                _table(["plugin", "named"], [[_e(_field(p, "use") or _plugin_name(p)),
+                                              _e(_field(p, "name"))] for p in assembly.plugins],
+                       left=(0, 1))]
     return "\n".join(out)
 
 
@@ -195,11 +197,7 @@ def _props_text(props: dict[str, Any]) -> str:
 
 
 def _plugin_name(spec: Any) -> str:
-    for attr in ("name", "use"):
-        value = spec.get(attr) if isinstance(spec, dict) else getattr(spec, attr, None)
-        if value:
-            return str(value)
-    return str(spec)
+    return _field(spec, "name") or _field(spec, "use") or str(spec)
 
 
 def _checks(model: Any) -> str:
@@ -354,19 +352,54 @@ def _ride(model: Any, road_class: str, speed_m_s: float) -> str:
 
 
 def _plugins(assembly: Any, model: Any) -> str:
-    """Each plugin's own tables, from ``builder.plugin.plugin_tables`` when it exists."""
+    """Each applied plugin's own analysis, as its tables.
+
+    ``builder.plugin.plugin_tables(assembly, model)`` (a list of ``(title,
+    table)``) is used when the plugin module offers it; otherwise each plugin
+    named in the file is found in the entry-point group ``lumpgraph.plugins``
+    and its ``analyse(model)`` result shown through its ``table()``.
+    """
     if not assembly.plugins:
         return ""
-    from . import plugin
-
+    try:
+        from . import plugin
+    except ImportError:
+        plugin = None
     tables = getattr(plugin, "plugin_tables", None)
-    if tables is None:
-        return '<p class="note">The plugin mechanism offers no tables yet.</p>'
+    if tables is not None:
+        pairs = list(tables(assembly, model))
+    else:
+        pairs = _entry_point_tables(assembly, model)
     out = []
-    for title, table in tables(assembly, model):
+    for title, table in pairs:
         out.append(f"<h3>{_e(title)}</h3>")
         out.append(_any_table(table))
-    return "\n".join(out)
+    return "\n".join(out) or '<p class="note">The plugins in this file add no tables.</p>'
+
+
+def _entry_point_tables(assembly: Any, model: Any) -> list[tuple[str, Any]]:
+    from importlib.metadata import entry_points
+
+    found = {ep.name: ep for ep in entry_points(group="lumpgraph.plugins")}
+    out: list[tuple[str, Any]] = []
+    for use in assembly.plugins:
+        kind = _field(use, "use") or _plugin_name(use)
+        title = f"{kind}: {_field(use, 'name') or kind}"
+        if kind not in found:
+            continue
+        try:
+            obj = found[kind].load()
+            analyse = getattr(obj, "analyse", None)
+            if analyse is not None:
+                out.append((title, analyse(model)))
+        except (LumpgraphError, ValueError, RuntimeError, ImportError, TypeError) as exc:
+            out.append((title, f"not computed: {exc}"))
+    return out
+
+
+def _field(spec: Any, name: str) -> str:
+    value = spec.get(name) if isinstance(spec, dict) else getattr(spec, name, None)
+    return str(value) if value else ""
 
 
 def _any_table(table: Any) -> str:

@@ -168,3 +168,37 @@ def test_report_road_response_peak_matches_the_quarter_car_transfer_function(qua
     row = [line for line in text.split("<tr>") if "body_accel" in line and "road.contact" in line]
     assert row, "no peak row for body_accel"
     assert f"<td>{abs(h[k]):.4g}</td>" in row[0] and f"<td>{f[k]:.3g}</td>" in row[0]
+
+
+def test_plugin_tables_come_from_each_plugin(monkeypatch):
+    # A plugin found through the entry-point group shows its analysis' table.
+    import importlib.metadata
+
+    class Result:
+        def table(self) -> str:
+            return "decoupling <table> 97 %"
+
+    class FakePlugin:
+        name = "fake"
+
+        def analyse(self, model, **options):
+            return Result()
+
+    class EntryPoint:
+        name = "fake"
+
+        def load(self):
+            return FakePlugin()
+
+    real = importlib.metadata.entry_points
+
+    def entry_points(**kw):
+        return [EntryPoint()] if kw.get("group") == "lumpgraph.plugins" else real(**kw)
+
+    monkeypatch.setattr(importlib.metadata, "entry_points", entry_points)
+    assembly = load_assembly(QUARTER)
+    assembly = assembly.replace(plugins=({"use": "fake", "name": "demo"},))
+    page = report_html(assembly, assemble(assembly), sheet=1)
+    assert "<h3>fake: demo</h3>" in page
+    assert "decoupling &lt;table&gt; 97 %" in page     # plugin text is escaped
+    assert not _parse(page).errors
