@@ -154,7 +154,8 @@ def mode_title(mode: Any) -> str:
     parts = [f"Mode {_get(mode, 'number', '?')}"]
     freq = _get(mode, "frequency_hz")
     if freq is not None:
-        parts.append(f"{float(freq):.3g} Hz" if float(freq) < 100 else f"{float(freq):.0f} Hz")
+        f = float(freq)
+        parts.append(f"{f:.2f} Hz" if f < 10 else f"{f:.1f} Hz" if f < 100 else f"{f:.0f} Hz")
     zeta = _get(mode, "damping_ratio")
     if zeta is not None and np.isfinite(float(zeta)):
         parts.append(f"damping {100 * float(zeta):.1f} %")
