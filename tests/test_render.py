@@ -521,3 +521,16 @@ def test_complex_shape_frames_follow_re_u_exp_i_phase(car):
             u = q[:3] + np.cross(q[3:], base - cg)
             expected = base + factor * np.real(u * np.exp(1j * phi))
             np.testing.assert_allclose(renderer.points_of("body:body"), expected, atol=1e-12)
+
+
+def test_title_carries_number_frequency_damping_and_label():
+    from builder.render import mode_title
+
+    title = mode_title({"number": 2, "frequency_hz": 1.4761, "damping_ratio": 0.3062,
+                        "label": "body pitch | $x$"})
+    first, second = title.split("\n")
+    assert first.split() == ["Mode", "2", "1.48", "Hz", "damping", "30.6", "%"]
+    # "|" and "$" would send VTK's text through its math-text renderer.
+    assert "|" not in second and "$" not in second and second.startswith("body pitch")
+    assert mode_title({"number": 1, "frequency_hz": 0.0, "damping_ratio": None,
+                       "label": "rigid"}) == "Mode 1   0.00 Hz\nrigid"
