@@ -269,3 +269,44 @@ def test_bad_seat_input_is_refused():
     once = add_seat(base, SeatSpec("driver", "body", RAILS))
     with pytest.raises(InputError, match="reuse"):
         add_seat(once, SeatSpec("driver", "body", RAILS))
+
+
+def _with_block(text: str):
+    from builder.yamlnodes import parse_yaml
+
+    node = parse_yaml(text, "seat.yaml")
+    return node.mapping(), node.where
+
+
+def test_plugin_validates_its_block():
+    from plugins.seat import PLUGIN
+
+    fields, where = _with_block("rails: [[0, 0.3, 0.3], [-0.4, 0.3, 0.3]]\n"
+                                "cushion_stiffness: 50 kN/m\noccupant_mass: 80 kg\n")
+    spec = PLUGIN.validate(fields, "driver", {}, where)
+    assert spec.cushion_stiffness == pytest.approx(5.0e4) and spec.occupant_mass == 80.0
+    assert spec.rails == ((0.0, 0.3, 0.3), (-0.4, 0.3, 0.3))
+    for text, message in (
+            ("cushion_stiffness: 50 kN/m\n", "rails"),
+            ("rails: [[0, 0, 0]]\ncushion_stifness: 5\n", "unknown parameter"),
+            ("rails: [[0, 0, 0]]\ncushion_stiffness: 50 kg\n", "stiffness"),
+            ("rails: [[0, 0, 0]]\noccupant: giant\n", "must be one of"),
+            ("rails: [[0, 0, 0]]\noccupant_mass: -3 kg\n", "positive mass"),
+            ("rails: [[0, 0]]\n", "3 numbers")):
+        fields, where = _with_block(text)
+        with pytest.raises(InputError, match=message) as err:
+            PLUGIN.validate(fields, "driver", {}, where)
+        assert "\n" not in str(err.value) and "seat.yaml" in str(err.value)
+
+
+def test_plugin_analyse_finds_its_seats():
+    from plugins.seat import PLUGIN
+
+    asm, spec, names = _seat(BOUNCE, "body")
+    asm = asm.replace(plugins=({"use": "seat", "name": "driver", "spec": spec},))
+    figures = PLUGIN.analyse(assemble(asm), road_class="B", speed_m_s=15.0,
+                             bump_speed_m_s=None)
+    assert len(figures) == 1 and figures[0].ride.seat_value["z"] > 0
+    titles = [t for t, _ in figures.report_tables()]
+    assert any("occupant" in t for t in titles) and any("class B" in t for t in titles)
+    assert "SEAT value" in figures.table()
