@@ -164,8 +164,9 @@ def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
     for i in range(count):
         energy = {d: float(e) for d, e in zip(model.dofs, energies[:, i])}
         zeta, fd, over, roots = damping[i]
-        label = "rigid" if rigid[i] else label_mode(full, full_shapes[:, i], full_energy[:, i],
-                                                    context)
+        label = "rigid" if rigid[i] else (
+            _plugin_label(full, full_shapes[:, i], full_energy[:, i])
+            or label_mode(full, full_shapes[:, i], full_energy[:, i], context))
         modes.append(Mode(i + 1, float(omega[i] / (2 * math.pi)), zeta, fd, label,
                           shapes[:, i].copy(), energy, bool(rigid[i]), over, roots))
     notes = []
@@ -173,6 +174,19 @@ def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
     if nr:
         notes.append(_rigid_note(model, nr))
     return ModeSet(model, tuple(modes), tuple(notes))
+
+
+def _plugin_label(model: LinearModel, shape: np.ndarray, energy: np.ndarray) -> str | None:
+    """A label from the first applied plugin that has words for this mode."""
+    if model.assembly is None:
+        return None
+    for use in model.assembly.plugins:
+        labeller = getattr(getattr(use, "plugin", None), "label_mode", None)
+        if callable(labeller):
+            label = labeller(model, shape, energy)
+            if label:
+                return label
+    return None
 
 
 def _rigid_note(model: LinearModel, count: int) -> str:

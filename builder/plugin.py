@@ -1,0 +1,240 @@
+"""Plugins: sub-models added to an Assembly, found through entry points.
+
+A plugin is an object with
+
+- ``name`` (str) and ``summary`` (one line);
+- ``parameters``: a sequence of declarations, each with ``name``,
+  ``dimension`` (a name from :data:`builder.quantities.DIMENSIONS`, or a kind
+  such as ``"name"``, ``"integer"``, ``"choice"``, ``"points"``, ``"table"``),
+  ``default`` and ``help`` (see :class:`Parameter`);
+- ``validate(fields, name, parameters, where) -> spec``: check a file's
+  ``with:`` block (a mapping of :class:`~builder.yamlnodes.Node`) and return
+  whatever the plugin needs later; errors are
+  :class:`~builder.errors.InputError` one-liners;
+- ``apply(assembly, spec) -> Assembly``: data in, graph out;
+
+and optionally
+
+- ``analyse(model, **options)``: its own analyses, a result with ``table()``
+  and ``to_dict()``, for ``lumpgraph plugin NAME FILE``;
+- ``tables(assembly, model, **options) -> list[(title, rows)]`` for the report;
+- ``configure_cli(parser)``: extra options of ``lumpgraph plugin NAME``;
+- ``label_mode(model, shape, energy) -> str | None``: mode labels in its words.
+
+Plugins are registered in the entry-point group ``lumpgraph.plugins``; the
+built-in ones in ``plugins/`` are registered the same way in this project's
+pyproject.toml, so a third-party package adds one with::
+
+    [project.entry-points."lumpgraph.plugins"]
+    my_mount = "my_package.mount:PLUGIN"
+
+A plugin that fails to import or declares itself badly is reported by name
+(:func:`installed_plugins` returns the problems) and the others keep working.
+The core checks a ``with:`` block's keys against the declaration (unknown
+keys are errors with a "did you mean" hint; values of a declared physical
+dimension must have it) before the plugin's own ``validate`` runs.
+"""
+
+from __future__ import annotations
+
+import difflib
+import importlib.metadata
+import re
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+from .assembly import Assembly
+from .errors import InputError, Where
+from .quantities import DIMENSIONS, Quantity
+from .yamlnodes import Node
+
+__all__ = ["ENTRY_POINT_GROUP", "Parameter", "PluginUse", "Table", "installed_plugins",
+           "get_plugin", "validate_plugin_uses", "apply_plugins", "plugin_tables",
+           "declaration_problem", "clear_cache"]
+
+ENTRY_POINT_GROUP = "lumpgraph.plugins"
+_NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
+
+
+@dataclass(frozen=True)
+class Parameter:
+    """A plugin parameter: name, unit dimension or kind, SI default (None: none), help."""
+
+    name: str
+    dimension: str
+    default: Any = None
+    help: str = ""
+
+
+@dataclass(frozen=True, eq=False)
+class PluginUse:
+    """One entry of a file's ``plugins:`` list, validated."""
+
+    use: str
+    name: str
+    spec: Any
+    where: Where
+    plugin: Any = field(repr=False, default=None)
+
+
+@dataclass(frozen=True)
+class Table:
+    """A small table a plugin contributes: title, column names, rows, notes."""
+
+    title: str
+    columns: tuple[str, ...]
+    rows: tuple[tuple[Any, ...], ...]
+    notes: tuple[str, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"title": self.title, "columns": list(self.columns),
+                "rows": [list(r) for r in self.rows], "notes": list(self.notes)}
+
+    def text(self) -> str:
+        cells = [list(self.columns)] + [[_cell(v) for v in r] for r in self.rows]
+        widths = [max(len(str(r[i])) for r in cells) for i in range(len(self.columns))]
+        lines = [self.title]
+        for k, r in enumerate(cells):
+            lines.append("  ".join(str(v).rjust(w) for v, w in zip(r, widths)))
+            if k == 0:
+                lines.append("  ".join("-" * w for w in widths))
+        lines.extend(f"note: {n}" for n in self.notes)
+        return "\n".join(lines)
+
+
+def _cell(v: Any) -> str:
+    return f"{v:.4g}" if isinstance(v, float) else str(v)
+
+
+def declaration_problem(obj: Any) -> str:
+    """Empty if ``obj`` declares itself as a plugin correctly, else the reason."""
+    name = getattr(obj, "name", None)
+    if not isinstance(name, str) or not _NAME.match(name):
+        return "has no valid name"
+    for attr in ("validate", "apply"):
+        if not callable(getattr(obj, attr, None)):
+            return f"has no {attr}() method"
+    params = getattr(obj, "parameters", None)
+    if params is None:
+        return "declares no parameters"
+    seen = set()
+    for p in params:
+        for attr in ("name", "dimension", "default", "help"):
+            if not hasattr(p, attr):
+                return f"parameter {getattr(p, 'name', p)!r} has no {attr}"
+        if p.name in seen:
+            return f"declares parameter {p.name!r} twice"
+        seen.add(p.name)
+    return ""
+
+
+_CACHE: tuple[dict[str, Any], list[str]] | None = None
+
+
+def clear_cache() -> None:
+    """Forget discovered plugins (after installing one at run time, in tests)."""
+    global _CACHE
+    _CACHE = None
+
+
+def installed_plugins() -> tuple[dict[str, Any], list[str]]:
+    """(plugins by name, problems) from the entry-point group; broken ones are skipped."""
+    global _CACHE
+    if _CACHE is not None:
+        return _CACHE
+    found: dict[str, Any] = {}
+    problems: list[str] = []
+    for ep in sorted(importlib.metadata.entry_points(group=ENTRY_POINT_GROUP),
+                     key=lambda e: e.name):
+        try:
+            obj = ep.load()
+            if isinstance(obj, type):
+                obj = obj()
+        except Exception as exc:  # a third-party plugin may fail in any way
+            problems.append(f'plugin "{ep.name}" ({ep.value}) cannot be loaded: '
+                            f"{type(exc).__name__}: {exc}")
+            continue
+        reason = declaration_problem(obj)
+        if reason:
+            problems.append(f'plugin "{ep.name}" ({ep.value}) {reason}')
+            continue
+        if obj.name in found:
+            problems.append(f'plugin "{obj.name}" is registered twice; the first is used')
+            continue
+        found[obj.name] = obj
+    _CACHE = (found, problems)
+    return _CACHE
+
+
+def get_plugin(name: str, where: Where | None = None) -> Any:
+    """The installed plugin called ``name``; InputError listing the installed ones."""
+    plugins, problems = installed_plugins()
+    if name in plugins:
+        return plugins[name]
+    broken = [p for p in problems if p.startswith(f'plugin "{name}"')]
+    if broken:
+        raise InputError(f"{broken[0]}", where)
+    hint = difflib.get_close_matches(name, list(plugins), n=1)
+    tip = f' (did you mean "{hint[0]}"?)' if hint else ""
+    raise InputError(f'unknown plugin "{name}"{tip}; installed: '
+                     f"{', '.join(plugins) or 'none'}", where)
+
+
+def _check_fields(plugin: Any, node: Node | None, parameters: Mapping[str, Quantity]
+                  ) -> dict[str, Node]:
+    declared = {p.name: p for p in plugin.parameters}
+    if node is None:
+        return {}
+    fields = node.mapping(declared, what="a mapping of the plugin's parameters")
+    for key, value in fields.items():
+        dim = declared[key].dimension
+        if dim in DIMENSIONS and not (value.is_map or value.is_list):
+            value.quantity(dim, parameters)
+    return fields
+
+
+def validate_plugin_uses(node: Node, parameters: Mapping[str, Quantity]) -> list[PluginUse]:
+    """Check a file's ``plugins:`` list (every block, before anything runs)."""
+    uses: list[PluginUse] = []
+    names: set[str] = set()
+    for item in node.items_list("a list of plugin blocks (- use: NAME ...)"):
+        f = item.mapping(("use", "name", "with"), required=("use",))
+        use = f["use"].text("a plugin name")
+        plugin = get_plugin(use, f["use"].where)
+        name = f["name"].text("a name") if "name" in f else use
+        if not _NAME.match(name):
+            raise f["name"].error(f'must be letters, digits and "_", got "{name}"')
+        if name in names:
+            raise f["name"].error(f'two plugin blocks are named "{name}"')
+        names.add(name)
+        fields = _check_fields(plugin, f.get("with"), parameters)
+        where = f["with"].where if "with" in f else item.where
+        spec = plugin.validate(fields, name, parameters, where)
+        uses.append(PluginUse(use, name, spec, item.where, plugin))
+    return uses
+
+
+def apply_plugins(assembly: Assembly, uses: Sequence[PluginUse]) -> Assembly:
+    """Run the plugins in the order listed, each turning the graph into a new one."""
+    for u in uses:
+        out = u.plugin.apply(assembly, u.spec)
+        if not isinstance(out, Assembly):
+            raise InputError(f'plugin "{u.use}" returned {type(out).__name__}, '
+                             "not an Assembly", u.where)
+        assembly = out
+    return assembly.replace(plugins=tuple(uses))
+
+
+def plugin_tables(assembly: Assembly, model: Any, **options: Any) -> list[tuple[str, str, Any]]:
+    """(plugin name, title, rows or Table) of every applied plugin that offers tables."""
+    out: list[tuple[str, str, Any]] = []
+    seen: set[str] = set()
+    for u in assembly.plugins:
+        plugin = getattr(u, "plugin", None)
+        if plugin is None or u.use in seen or not callable(getattr(plugin, "tables", None)):
+            continue
+        seen.add(u.use)
+        for title, rows in plugin.tables(assembly, model, **options):
+            out.append((u.use, title, rows))
+    return out
