@@ -20,14 +20,14 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
+import numpy as np  # noqa: E402
+
 from builder.analysis.modes import compute_modes  # noqa: E402
 from builder.assembly import Assembly, Body, End, Link  # noqa: E402
 from builder.eigen import DENSE_LIMIT  # noqa: E402
 from builder.elements.bushing import bushing_props  # noqa: E402
 from builder.linear import assemble  # noqa: E402
 from builder.load import load_assembly  # noqa: E402
-
-import numpy as np  # noqa: E402
 
 
 def best_of(fn, repeat: int = 5) -> float:

@@ -9,13 +9,13 @@ import json
 
 import numpy as np
 import pytest
+from conftest import ASSEMBLIES
 
 from builder.analysis.checks import check_model
 from builder.analysis.ladder import compute_ladder
 from builder.analysis.modes import compute_modes
 from builder.linear import assemble
 from builder.load import load_assembly
-from conftest import ASSEMBLIES
 
 FILES = sorted(ASSEMBLIES.glob("*.yaml"))
 

@@ -4,12 +4,12 @@ import math
 
 import numpy as np
 import pytest
+from conftest import ASSEMBLIES
 
 from builder.analysis.modes import compute_modes
 from builder.linear import assemble
 from builder.load import load_assembly, load_text
 from builder.reduce import guyan, reduce_keep, reduce_to_depth
-from conftest import ASSEMBLIES
 
 TWO_PI = 2 * math.pi
 

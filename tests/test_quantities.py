@@ -9,9 +9,8 @@ import math
 
 import pytest
 
-from builder.errors import InputError
+from builder.errors import InputError, Where
 from builder.quantities import Quantity, parse_unit, resolve_parameters, to_si
-from builder.errors import Where
 
 
 @pytest.mark.parametrize("text, dim, expected", [
