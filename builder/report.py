@@ -351,13 +351,15 @@ def _ride(model: Any, road_class: str, speed_m_s: float) -> str:
     return head + table + notes + figure
 
 
-def _plugins(assembly: Any, model: Any) -> str:
+def _plugins(assembly: Any, model: Any, **options: Any) -> str:
     """Each applied plugin's own analysis, as its tables.
 
-    ``builder.plugin.plugin_tables(assembly, model)`` (a list of ``(title,
-    table)``) is used when the plugin module offers it; otherwise each plugin
-    named in the file is found in the entry-point group ``lumpgraph.plugins``
-    and its ``analyse(model)`` result shown through its ``table()``.
+    ``builder.plugin.plugin_tables(assembly, model, **options)`` (a list of
+    ``(plugin, title, rows)``, rows with the header first, or a ``Table``) is
+    used when the plugin module offers it, with the report's road class and
+    speed as options; otherwise each plugin named in the file is found in the
+    entry-point group ``lumpgraph.plugins`` and its ``analyse(model)`` result
+    shown through its ``table()``.
     """
     if not assembly.plugins:
         return ""
@@ -367,7 +369,11 @@ def _plugins(assembly: Any, model: Any) -> str:
         plugin = None
     tables = getattr(plugin, "plugin_tables", None)
     if tables is not None:
-        pairs = list(tables(assembly, model))
+        try:
+            found = list(tables(assembly, model, **options))
+        except TypeError:      # a plugin that takes no options
+            found = list(tables(assembly, model))
+        pairs = [(item[-2], item[-1]) for item in found]   # (plugin,) title, rows
     else:
         pairs = _entry_point_tables(assembly, model)
     out = []
@@ -403,7 +409,11 @@ def _field(spec: Any, name: str) -> str:
 
 
 def _any_table(table: Any) -> str:
-    """A plugin's table: rows (first the header), an object with ``table()``, or text."""
+    """A plugin's table: rows (first the header), a ``Table`` (``columns``, ``rows``,
+    ``notes``), an object with ``table()``, or text."""
+    if hasattr(table, "columns") and hasattr(table, "rows"):
+        notes = "".join(f'<p class="note">{_e(n)}</p>' for n in getattr(table, "notes", ()))
+        return _any_table([list(table.columns), *[list(r) for r in table.rows]]) + notes
     if isinstance(table, list | tuple) and table and isinstance(table[0], list | tuple):
         header, *rows = table
         return _table([str(h) for h in header],
@@ -446,7 +456,8 @@ def report_html(assembly: Assembly, model: LinearModel, *, sheet: int = 12, road
         _section("Review sheet", lambda: _sheet(assembly, model, modes, sheet)),
         _section("Frequency response from the road", lambda: _frf(model)),
         _section("Ride on a random road", lambda: _ride(model, road_class, speed_m_s)),
-        _section("Plugin analyses", lambda: _plugins(assembly, model)),
+        _section("Plugin analyses", lambda: _plugins(assembly, model, road_class=road_class,
+                                                     speed_m_s=speed_m_s)),
         f'<div class="caution">{_e(CAUTION)}</div>',
         "</main></body></html>",
     ]

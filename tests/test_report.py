@@ -170,35 +170,29 @@ def test_report_road_response_peak_matches_the_quarter_car_transfer_function(qua
     assert f"<td>{abs(h[k]):.4g}</td>" in row[0] and f"<td>{f[k]:.3g}</td>" in row[0]
 
 
-def test_plugin_tables_come_from_each_plugin(monkeypatch):
-    # A plugin found through the entry-point group shows its analysis' table.
-    import importlib.metadata
+def test_plugin_tables_come_from_each_plugin():
+    # An applied plugin's tables (rows with the header first, or a Table)
+    # appear in the report, escaped; the report's road options reach it.
+    from builder.errors import Where
+    from builder.plugin import PluginUse, Table
 
-    class Result:
-        def table(self) -> str:
-            return "decoupling <table> 97 %"
+    seen = {}
 
     class FakePlugin:
         name = "fake"
 
-        def analyse(self, model, **options):
-            return Result()
+        def tables(self, assembly, model, **options):
+            seen.update(options)
+            return [("Fake <mounts>", [["mount", "rate (N/m)"], ["left", 1.5e5]]),
+                    ("Fake decoupling", Table("ignored", ("mode", "share"), ((1, 0.97),),
+                                              ("energy in the roll direction",)))]
 
-    class EntryPoint:
-        name = "fake"
-
-        def load(self):
-            return FakePlugin()
-
-    real = importlib.metadata.entry_points
-
-    def entry_points(**kw):
-        return [EntryPoint()] if kw.get("group") == "lumpgraph.plugins" else real(**kw)
-
-    monkeypatch.setattr(importlib.metadata, "entry_points", entry_points)
     assembly = load_assembly(QUARTER)
-    assembly = assembly.replace(plugins=({"use": "fake", "name": "demo"},))
-    page = report_html(assembly, assemble(assembly), sheet=1)
-    assert "<h3>fake: demo</h3>" in page
-    assert "decoupling &lt;table&gt; 97 %" in page     # plugin text is escaped
+    use = PluginUse("fake", "demo", None, Where(), FakePlugin())
+    assembly = assembly.replace(plugins=(use,))
+    page = report_html(assembly, assemble(assembly), sheet=1, road_class="D")
+    assert "<h3>Fake &lt;mounts&gt;</h3>" in page and "<th>rate (N/m)</th>" in page
+    assert "<td>1.5e+05</td>" in page and "<td>0.97</td>" in page
+    assert "energy in the roll direction" in page
+    assert seen["road_class"] == "D"
     assert not _parse(page).errors
