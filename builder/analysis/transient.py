@@ -32,8 +32,12 @@ its form (the wheel reaching or leaving the event) is split exactly at that
 instant. The samples are therefore those of the exact response to the exact
 half-sine, ramp or step, with the road velocity ``r'`` entering analytically.
 The recurrence over the samples runs in modal coordinates (one first-order
-recursive filter per eigenvalue, ``scipy.signal.lfilter``) when the
-eigenvectors are well conditioned, and as a plain loop otherwise.
+recursive filter per eigenvalue, ``scipy.signal.lfilter``, one of each
+complex-conjugate pair) when the eigenvectors are well conditioned, and as a
+plain loop otherwise; once the last road point has passed the event the
+input keeps one form, and the rest of the record is the closed-form modal
+decay ``xi_p + mu^k (xi_0 - xi_p)``, with no recursion. The matrices are
+dense: for models of more than a few hundred DOFs, analyse a depth.
 
 A random road (ISO 8608 class) is a realisation from
 :func:`builder.analysis.road.road_profile`; each road point reads the
@@ -173,11 +177,17 @@ def _step_matrices(A: NDArray, B: NDArray, h: float, omega: float) -> tuple[NDAr
     return E[:N, :N], gam
 
 
-def _recurrence(A: NDArray, Phi: NDArray, g: NDArray, dt: float, Cout: NDArray) -> NDArray:
-    """Outputs ``Cout x_i`` of x_0 = 0, x_{i+1} = Phi x_i + g_i; (len(g) + 1, ns)."""
+def _recurrence(A: NDArray, Phi: NDArray, g: NDArray, dt: float, Cout: NDArray,
+                nint: int) -> NDArray:
+    """Outputs ``Cout x_i`` (nint + 1, ns) of x_0 = 0, x_{i+1} = Phi x_i + g_i.
+
+    ``g`` holds the first ``len(g)`` forcing terms; every later one equals ``g[-1]``
+    (the input keeps one constant form after the event), so that part is the closed
+    form ``xi_p + mu^p (xi_0 - xi_p)`` per mode, with no recursion.
+    """
     from scipy.signal import lfilter
 
-    nint, N = g.shape
+    active, N = g.shape
     lam, V = np.linalg.eig(A)
     ok = np.all(np.isfinite(lam)) and np.linalg.cond(V) < _MODAL_CONDITION
     if ok:
@@ -185,30 +195,48 @@ def _recurrence(A: NDArray, Phi: NDArray, g: NDArray, dt: float, Cout: NDArray) 
         Vinv = np.linalg.inv(V)
         ok = np.allclose((V * mu) @ Vinv, Phi, rtol=1e-9, atol=1e-11 * np.abs(Phi).max())
     out = np.zeros((nint + 1, Cout.shape[0]))
-    if ok:
-        h = np.ascontiguousarray(Vinv @ g.T)          # (N, nint): one row per mode
-        for k in range(N):
-            h[k] = lfilter([1.0], [1.0, -mu[k]], h[k])
-        out[1:] = ((Cout @ V) @ h).real.T
+    if not ok:
+        x = np.zeros(N)
+        states = np.empty((nint, N))
+        for i in range(nint):
+            x = Phi @ x + g[min(i, active - 1)]
+            states[i] = x
+        out[1:] = states @ Cout.T
         return out
-    x = np.zeros(N)
-    states = np.empty((nint, N))
-    for i in range(nint):
-        x = Phi @ x + g[i]
-        states[i] = x
-    out[1:] = states @ Cout.T
+    # A is real: its complex modes come in conjugate pairs (LAPACK returns exact
+    # conjugates), so one of each pair, counted twice, gives the real output.
+    keep = lam.imag >= 0
+    weight = np.where(lam.imag[keep] > 0, 2.0, 1.0)
+    mu, lam = mu[keep], lam[keep]
+    h = np.ascontiguousarray(Vinv[keep] @ g.T)          # (modes, active)
+    xi = np.empty((mu.size, nint), dtype=complex)
+    for k in range(mu.size):
+        xi[k, :active] = lfilter([1.0], [1.0, -mu[k]], h[k])
+    if nint > active:
+        tail = h[:, -1]
+        steps = np.arange(1, nint - active + 1) * dt
+        last = xi[:, active - 1]
+        grows = np.abs(1.0 - mu) < 1e-13                  # a zero eigenvalue: xi grows linearly
+        safe = np.where(grows, 1.0, 1.0 - mu)
+        fixed = np.where(grows, 0.0, tail / safe)
+        decay = np.exp(lam[:, None] * steps[None, :])
+        xi[:, active:] = fixed[:, None] + decay * (last - fixed)[:, None]
+        if grows.any():
+            xi[grows, active:] = last[grows, None] + np.outer(tail[grows], steps / dt)
+    out[1:] = ((Cout @ V[:, keep] * weight) @ xi).real.T
     return out
 
 
 def _simulate(A: NDArray, B: NDArray, Cout: NDArray, D: NDArray, dt: float, coef: NDArray,
               u_samples: NDArray, omega: float,
               splits: dict[int, list[tuple[float, NDArray]]] | None = None) -> NDArray:
-    """Exact outputs at the samples, (nt, ns), for interval coefficients (nint, 4, m).
+    """Exact outputs at the samples, (nt, ns), for interval coefficients (k, 4, m).
 
-    ``splits[i]`` replaces interval i by sub-intervals ``(length, coef (4, m))``."""
+    Intervals from ``k - 1`` on share the coefficients ``coef[-1]``; ``splits[i]``
+    replaces interval i by sub-intervals ``(length, coef (4, m))``."""
     Phi, gam = _step_matrices(A, B, dt, omega)
-    nint, _, m = coef.shape
-    g = coef.reshape(nint, 4 * m) @ gam.transpose(0, 2, 1).reshape(4 * m, -1)
+    active, _, m = coef.shape
+    g = coef.reshape(active, 4 * m) @ gam.transpose(0, 2, 1).reshape(4 * m, -1)
     cache: dict[float, tuple[NDArray, NDArray]] = {}
     for i, subs in (splits or {}).items():
         gi = np.zeros(A.shape[0])
@@ -218,7 +246,7 @@ def _simulate(A: NDArray, B: NDArray, Cout: NDArray, D: NDArray, dt: float, coef
             Ph, Gh = cache[h]
             gi = Ph @ gi + np.einsum("bnm,bm->n", Gh, c)
         g[i] = gi
-    return _recurrence(A, Phi, g, dt, Cout) + u_samples @ D.T
+    return _recurrence(A, Phi, g, dt, Cout, u_samples.shape[0] - 1) + u_samples @ D.T
 
 
 # --------------------------------------------------------- event inputs --
@@ -345,10 +373,16 @@ def event_response(model: Any, event: RoadEvent, speed_m_s: float,
     t = np.arange(count) * dt
     delays = _delays(model, v)
     omega, pieces = event._pieces(v)
-    coef = _event_coefficients(pieces, omega, delays, t[:-1], t[:-1] + 0.5 * dt)
+    # after the last change of form every interval has the same coefficients: the
+    # intervals up to the first one wholly past it are enough
+    last = max((tau + edge for tau in delays for ta, tb, _ in pieces for edge in (ta, tb)
+                if math.isfinite(edge)), default=0.0)
+    active = min(count - 1, int(math.floor(last / dt)) + 2)
+    starts = t[:active]
+    coef = _event_coefficients(pieces, omega, delays, starts, starts + 0.5 * dt)
     at_samples = _event_coefficients(pieces, omega, delays, t, t)
     u = at_samples[:, 0] + at_samples[:, 2]
-    splits = _event_splits(pieces, omega, delays, 0.0, dt, count - 1)
+    splits = _event_splits(pieces, omega, delays, 0.0, dt, active)
     y = _simulate(A, B, C, D, dt, coef, u, omega, splits)
     nr = len(model.inputs)
     return _result(model, assembly, rows, t, u[:, :nr], y, v,
