@@ -463,3 +463,51 @@ def test_sweep_command_errors_are_one_line(run_cli, args, option):
     code, text, err = run_cli("sweep", QUARTER, *args)
     assert code == 2
     assert option in err and err.count("\n") == 1
+
+
+class _FakePlugin:
+    """A plugin with an analysis of its own (data invented for the test)."""
+
+    def analyse(self, model, assembly=None, **options):
+        class Result:
+            def to_dict(self):
+                return {"seats": [{"ride": {"vector_sum": 0.53, "label": "x"}}]}
+        return Result()
+
+
+def test_plugin_figure_reads_a_dotted_path():
+    from types import SimpleNamespace
+
+    from builder.analysis.sweep import plugin_figure
+    asm = SimpleNamespace(plugins=(SimpleNamespace(use="seat", name="driver",
+                                                   plugin=_FakePlugin()),))
+    assert plugin_figure(asm, None, "driver", "seats.0.ride.vector_sum") == 0.53
+    assert plugin_figure(asm, None, "seat", "seats.0.ride.vector_sum") == 0.53
+    for use, path, words in [("seat", "seats.1", "positions 0..0"),
+                             ("seat", "seats.0.ride.label", "not a number"),
+                             ("seat", "seats.0.ride.vs", "vector_sum, label"),
+                             ("engine", "x", "plugins: seat")]:
+        with pytest.raises(InputError, match="--result") as err:
+            plugin_figure(asm, None, use, path)
+        assert words in str(err.value)
+
+
+def test_plugin_figure_sweep_on_the_seat_example(tmp_path, run_cli):
+    # Consistency with the seat plugin's own analysis at one variant (the
+    # seat figures are checked against outside sources in the seat tests).
+    path = ASSEMBLIES / "compact_car_seat.yaml"
+    if not path.exists():
+        pytest.skip("no seat example")
+    from builder.analysis.sweep import plugin_figure
+    from builder.linear import assemble
+    from builder.load import load_assembly
+    out = tmp_path / "p.csv"
+    fig = "seats.0.ride.seat_weighted_rms.z"
+    code, text, err = run_cli("sweep", path, "--vary", "ks_front=20kN/m..28kN/m:2",
+                              "--result", f"plugin:driver:{fig}", "--csv", out)
+    assert code == 0, err
+    rows = [line.split(",") for line in out.read_text().splitlines()]
+    assert rows[0] == ["variant", "ks_front", f"driver:{fig}"]
+    asm = load_assembly(path, overrides={"ks_front": "28 kN/m"})
+    want = plugin_figure(asm, assemble(asm), "driver", fig)
+    assert float(rows[2][2]) == pytest.approx(want, rel=1e-12)

@@ -48,7 +48,8 @@ __all__ = [
     "batched_modes", "AffineFamily", "CallbackFamily", "affine_family", "ModesProblem",
     "FunctionProblem", "SweepResult", "run_sweep", "Progress", "TargetResult",
     "find_parameters", "family_sensitivities", "DEFAULT_CHUNK", "FileModel", "FileRide",
-    "file_parameters", "file_family", "file_sensitivities", "batched_guyan",
+    "file_parameters", "file_family", "file_sensitivities", "batched_guyan", "FilePlugin",
+    "plugin_figure", "plugin_result",
 ]
 
 #: variants per chunk; the same for every executor, so that results agree bit for bit
@@ -890,15 +891,19 @@ class FileModel:
     depth: str | None = None
     keep: tuple[str, ...] = ()
 
-    def model(self, values: Mapping[str, float]) -> Any:
-        """The LinearModel at these parameter values (SI)."""
-        from ..linear import assemble
+    def assembly(self, values: Mapping[str, float]) -> Any:
+        """The Assembly at these parameter values (SI)."""
         from ..load import load_assembly
         from ..quantities import Quantity
-        from ..reduce import reduce_keep, reduce_to_depth
         dims = dict(self.dims)
         over = {n: Quantity(float(v), dims.get(n, (0, 0, 0))) for n, v in values.items()}
-        asm = load_assembly(self.path, overrides=over)
+        return load_assembly(self.path, overrides=over)
+
+    def model(self, values: Mapping[str, float], assembly: Any = None) -> Any:
+        """The LinearModel at these parameter values (SI), at the depth."""
+        from ..linear import assemble
+        from ..reduce import reduce_keep, reduce_to_depth
+        asm = self.assembly(values) if assembly is None else assembly
         model = assemble(asm)
         if self.depth:
             if self.depth not in asm.depths:
@@ -1067,4 +1072,77 @@ class FileRide:
             out[f"{s}_rms"] = float(r.rms)
             if r.weighted_rms is not None:
                 out[f"{s}_weighted_rms"] = float(r.weighted_rms)
+        return out
+
+
+def _dig(data: Any, path: str, option: str) -> float:
+    """The number at a dotted ``path`` (keys, or list positions from 0) of a
+    JSON-like result; InputError naming what is there otherwise."""
+    node = data
+    done: list[str] = []
+    for part in [p for p in path.split(".") if p]:
+        if isinstance(node, Mapping) and part in node:
+            node = node[part]
+        elif isinstance(node, list | tuple) and part.isdigit() and int(part) < len(node):
+            node = node[int(part)]
+        else:
+            here = ".".join(done) or "the result"
+            if isinstance(node, Mapping):
+                have = ", ".join(map(str, node)) or "nothing"
+            elif isinstance(node, list | tuple):
+                have = f"positions 0..{len(node) - 1}"
+            else:
+                have = "a single value"
+            raise InputError(f'no "{part}" in {here} (it has {have})', Where(field=option))
+        done.append(part)
+    if isinstance(node, bool) or not isinstance(node, int | float):
+        raise InputError(f'"{path}" is not a number (got {type(node).__name__})',
+                         Where(field=option))
+    return float(node)
+
+
+def plugin_result(assembly: Any, model: Any, use: str,
+                  options: Mapping[str, Any] | None = None) -> Any:
+    """The JSON form (``to_dict()``) of ``plugin.analyse(model)`` for the plugin
+    entry ``use`` (its ``use:`` or ``name:`` in the file)."""
+    from ..commands._common import to_jsonable
+    for u in getattr(assembly, "plugins", ()):
+        if use in (getattr(u, "use", None), getattr(u, "name", None)):
+            plugin = getattr(u, "plugin", None)
+            if plugin is None or not callable(getattr(plugin, "analyse", None)):
+                raise InputError(f'plugin "{use}" has no analysis of its own',
+                                 Where(field="--result"))
+            return to_jsonable(plugin.analyse(model, assembly=assembly, **dict(options or {})))
+    known = ", ".join(str(getattr(u, "use", "?")) for u in getattr(assembly, "plugins", ()))
+    raise InputError(f'the file applies no plugin "{use}" (plugins: {known or "none"})',
+                     Where(field="--result"))
+
+
+def plugin_figure(assembly: Any, model: Any, use: str, path: str,
+                  options: Mapping[str, Any] | None = None) -> float:
+    """One number from a plugin's own analysis, read at the dotted ``path`` of
+    its JSON form (keys, or list positions from 0), e.g. ``seats.0.ride.vector_sum``."""
+    return _dig(plugin_result(assembly, model, use, options), path, "--result")
+
+
+@dataclass(frozen=True)
+class FilePlugin:
+    """Plugin figures per variant of a file: ``figures`` are (use, dotted path)
+    pairs, columns ``USE:PATH``. Each plugin's analysis runs once per variant."""
+
+    model: FileModel
+    figures: tuple[tuple[str, str], ...]
+
+    def columns(self) -> tuple[str, ...]:
+        return tuple(f"{u}:{p}" for u, p in self.figures)
+
+    def __call__(self, values: Mapping[str, float]) -> dict[str, float]:
+        asm = self.model.assembly(values)
+        model = self.model.model(values, asm)
+        results: dict[str, Any] = {}
+        out = {}
+        for u, p in self.figures:
+            if u not in results:
+                results[u] = plugin_result(asm, model, u)
+            out[f"{u}:{p}"] = _dig(results[u], p, "--result")
         return out

@@ -3,11 +3,12 @@
 Sweeps the file's ``parameters:`` over a grid (several ``--vary``), a Latin
 hypercube (``--lhs N``) or Monte Carlo scatter (``--scatter``, ``--samples``,
 ``--seed``), and reports tracked natural frequencies (``--result modes``,
-the default) or ride figures of sensors (``--result ride:SENSOR`` with
-``--road`` and ``--speed``). ``--csv`` writes the table as it goes
-(``--resume`` continues an interrupted one), ``--plot`` draws tracked
-frequencies against the last varied parameter (or histograms for random
-designs). ``--workers N`` uses local processes, ``--cluster tcp://HOST:PORT``
+the default), ride figures of sensors (``--result ride:SENSOR`` with
+``--road`` and ``--speed``) or a number from a plugin's own analysis
+(``--result plugin:NAME:PATH``, PATH dotted through its JSON result).
+``--csv`` writes the table as it goes (``--resume`` continues an interrupted
+one), ``--plot`` draws tracked frequencies against the last varied parameter
+(or histograms for random designs). ``--workers N`` uses local processes, ``--cluster tcp://HOST:PORT``
 a Dask scheduler. Two other uses of the same options:
 
 - ``--sensitivity``: the ranked table of df/dp of every mode with respect to
@@ -51,7 +52,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--seed", type=int, default=0, metavar="S",
                         help="seed of every random draw (default 0)")
     parser.add_argument("--result", action="append", default=None, metavar="WHAT",
-                        help="modes (default) or ride:SENSOR (repeatable)")
+                        help="modes (default), ride:SENSOR, or plugin:NAME:PATH (a number in "
+                        "the plugin's JSON result, e.g. plugin:seat:seats.0.ride.x) "
+                        "(repeatable)")
     parser.add_argument("--modes", type=int, default=None, metavar="N",
                         help="number of tracked modes to report (default all, at most 12)")
     parser.add_argument("--road", default=None, metavar="CLASS",
@@ -95,14 +98,27 @@ def _keep(args: argparse.Namespace) -> tuple[str, ...]:
     return tuple(k.strip() for k in (args.keep or "").split(",") if k.strip())
 
 
-def _ride_sensors(results: list[str], option: str) -> list[str]:
-    out = []
+def _split_results(results: list[str], option: str) -> tuple[list[str], list[tuple[str, str]]]:
+    """``ride:SENSOR`` and ``plugin:USE:PATH`` entries, apart."""
+    ride, plugin = [], []
     for r in results:
-        kind, _, sensor = r.partition(":")
-        if kind.strip() != "ride" or not sensor.strip():
-            raise InputError(f'expected "modes" or "ride:SENSOR", got "{r}"', Where(field=option))
-        out.append(sensor.strip())
-    return out
+        kind, _, rest = r.partition(":")
+        use, _, path = rest.partition(":")
+        if kind.strip() == "ride" and rest.strip():
+            ride.append(rest.strip())
+        elif kind.strip() == "plugin" and use.strip() and path.strip():
+            plugin.append((use.strip(), path.strip()))
+        else:
+            raise InputError(f'expected "modes", "ride:SENSOR" or "plugin:NAME:PATH", got "{r}"',
+                             Where(field=option))
+    return ride, plugin
+
+
+def _ride_sensors(results: list[str], option: str) -> list[str]:
+    ride, plugin = _split_results(results, option)
+    if plugin:
+        raise InputError("expected ride:SENSOR", Where(field=option))
+    return ride
 
 
 def _speed(args: argparse.Namespace) -> tuple[str, float]:
@@ -174,11 +190,19 @@ def run(args: argparse.Namespace) -> int:
         path = "batched (matrices reused)" if isinstance(family, sw.AffineFamily) else \
             "each variant rebuilt from the file"
     else:
-        road_class, speed = _speed(args)
+        sensors, figures = _split_results(results, "--result")
+        if sensors and figures:
+            raise InputError("sweep ride or plugin results, not both in one run",
+                             Where(field="--result"))
         fm = sw.FileModel(args.file, tuple((k, q.dim) for k, q in params.items()), args.depth,
                           keep)
-        ride = sw.FileRide(fm, tuple(_ride_sensors(results, "--result")), road_class, speed)
-        problem = sw.FunctionProblem(design.names, ride, ride.columns())
+        if sensors:
+            road_class, speed = _speed(args)
+            func: Any = sw.FileRide(fm, tuple(sensors), road_class, speed)
+        else:
+            func = sw.FilePlugin(fm, tuple(figures))
+            func(dict(zip(design.names, design.nominal, strict=True)))   # check paths first
+        problem = sw.FunctionProblem(design.names, func, func.columns())
         path = "each variant rebuilt from the file"
     progress = not args.no_progress and sys.stderr.isatty() and len(design) > 1
     try:
