@@ -18,8 +18,12 @@ moves as the body's rigid small motion ``u = u_cg + theta x (p - cg)``,
 i.e. ``point_map(p - cg) @ q`` with ``q = [u_cg, theta]`` (see
 :mod:`builder.kinematics`). A point of a link at fraction ``s`` from end
 ``a`` to end ``b`` moves as ``(1 - s) u_a + s u_b``, the motions of the two
-end points (a ground or road end does not move). A part stores this as a
-list of :class:`Term`: per point, a 3 x 6 map and a weight for one body.
+end points (a ground or road end does not move); a bushing's block moves
+with the mean of its two ends (``s = 1/2``). A part stores this as a list of
+:class:`Term`: per point, a 3 x 6 map and a weight for one body.
+
+A body solid that encloses another body's cg or a link end point is drawn
+translucent, so what it holds stays visible.
 """
 
 from __future__ import annotations
