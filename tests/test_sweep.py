@@ -511,3 +511,24 @@ def test_plugin_figure_sweep_on_the_seat_example(tmp_path, run_cli):
     asm = load_assembly(path, overrides={"ks_front": "28 kN/m"})
     want = plugin_figure(asm, assemble(asm), "driver", fig)
     assert float(rows[2][2]) == pytest.approx(want, rel=1e-12)
+
+
+def test_lhs_and_scatter_commands_plot_and_repeat(tmp_path, run_cli):
+    # Source: analytic closed form of the quarter car for every sampled ks;
+    # the same seed gives the same table.
+    import json
+    code, text, err = run_cli("sweep", QUARTER, "--vary", "ks=15kN/m..30kN/m", "--lhs", "12",
+                              "--seed", "3", "--plot", tmp_path / "h.png", "--json")
+    assert code == 0, err
+    data = json.loads(text)
+    assert data["kind"] == "lhs" and len(data["rows"]) == 12
+    rows = np.array(data["rows"])
+    np.testing.assert_allclose(rows[:, 1:], _quarter_closed_form(rows[:, 0]), rtol=1e-10)
+    assert (tmp_path / "h.png").read_bytes()[:4] == b"\x89PNG"
+    args = ("sweep", QUARTER, "--scatter", "kt=normal:210kN/m,3%", "--scatter",
+            "sprung_mass=uniform:280kg,320kg", "--samples", "50", "--seed", "9")
+    code1, text1, _ = run_cli(*args, "--csv", tmp_path / "a.csv")
+    code2, text2, _ = run_cli(*args, "--csv", tmp_path / "b.csv", "--workers", "2")
+    assert code1 == code2 == 0
+    assert (tmp_path / "a.csv").read_text() == (tmp_path / "b.csv").read_text()
+    assert "mean" in text1
