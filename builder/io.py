@@ -32,11 +32,18 @@ def write_atomic(path: str | os.PathLike[str], data: bytes | str) -> None:
             fh.write(raw)
             fh.flush()
             os.fsync(fh.fileno())
+        os.chmod(tmp, 0o666 & ~_umask())   # mkstemp makes 0600; give the usual file mode
         os.replace(tmp, path)
     except BaseException:
         if os.path.exists(tmp):
             os.unlink(tmp)
         raise
+
+
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
 
 
 def csv_text(rows: Iterable[Sequence[Any]]) -> str:
