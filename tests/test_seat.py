@@ -310,3 +310,23 @@ def test_plugin_analyse_finds_its_seats():
     titles = [t for t, _ in figures.report_tables()]
     assert any("occupant" in t for t in titles) and any("class B" in t for t in titles)
     assert "SEAT value" in figures.table()
+
+
+FREE = """
+format: 1
+name: free body
+motion: spatial
+bodies:
+  body: {mass: 900 kg, cg: [0, 0, 0.5], gyradius: {x: 0.5, y: 1.2, z: 1.2}}
+"""
+
+
+@pytest.mark.parametrize("rails", [RAILS, ((0.1, 0.3, 0.3),), ((0.2, 0.3, 0.3), (-0.2, 0.3, 0.3))])
+def test_seat_does_not_tie_a_free_body_to_the_ground(rails):
+    # Analytic: a free body has six rigid-body modes; a seat hung on it (its
+    # own DOFs all restrained by rails, cushion and occupant) must leave all six.
+    base = load_text(FREE)
+    asm = add_seat(base, SeatSpec("driver", "body", rails))
+    modes = compute_modes(assemble(asm))
+    assert modes.rigid_count == 6
+    assert np.sum(modes.frequencies_hz > 0.5) == assemble(asm).n - 6

@@ -28,6 +28,7 @@ from dataclasses import dataclass, fields
 from typing import Any
 
 from builder.errors import InputError, Where
+from builder.quantities import to_si
 
 from .build import SeatSpec, add_seat
 from .occupants import OCCUPANT_MODELS
@@ -114,6 +115,11 @@ def parse_seat_spec(fields_: Mapping[str, Any], name: str,
     return SeatSpec(name=name, **values)
 
 
+def _suffixed(path: str, name: str) -> str:
+    stem, dot, ext = path.rpartition(".")
+    return f"{stem}_{name}.{ext}" if dot else f"{path}_{name}"
+
+
 def _assembly_of(model: Any) -> Any:
     current = model
     while current is not None:
@@ -159,16 +165,54 @@ class SeatPlugin:
         """The new Assembly with the seat and occupant added."""
         return add_seat(assembly, spec)
 
+    def configure_cli(self, parser: Any) -> None:
+        """Options of ``lumpgraph plugin seat FILE`` beside --road and --speed."""
+        def quantity(dimension: str, option: str) -> Any:
+            return lambda text: to_si(text, dimension, Where(field=option), sign="positive")
+
+        parser.add_argument("--tracks", metavar="MODEL",
+                            help="left and right tracks: identical, independent or coherent "
+                                 "(default)")
+        parser.add_argument("--bump-speed", dest="bump_speed_m_s", metavar="V",
+                            type=quantity("speed", "--bump-speed"),
+                            help='speed over the bump (default "30 km/h")')
+        parser.add_argument("--bump-height", dest="bump_height_m", metavar="H",
+                            type=quantity("length", "--bump-height"),
+                            help='cosine bump height (default "50 mm")')
+        parser.add_argument("--bump-length", dest="bump_length_m", metavar="L",
+                            type=quantity("length", "--bump-length"),
+                            help='cosine bump length (default "0.5 m")')
+        parser.add_argument("--no-bump", dest="no_bump", action="store_true", default=None,
+                            help="leave out the bump figures")
+        parser.add_argument("--stroke", dest="stroke_m", metavar="S",
+                            type=quantity("length", "--stroke"),
+                            help='tune the cushion for the road, keeping 3 x RMS travel '
+                                 'within this stroke (e.g. "30 mm")')
+        parser.add_argument("--plot", dest="plot", metavar="OUT.png",
+                            help="write the occupant's apparent mass and seat-to-head "
+                                 "transmissibility plot (one file per seat: NAME added)")
+
     def analyse(self, model: Any, **options: Any) -> Any:
         """Seat figures of every seat in the model (a list of SeatFigures; each has
         ``table()``). ``options`` go to :func:`plugins.seat.figures.seat_figures`
-        (default: class C road at 60 km/h, bump at 30 km/h)."""
+        (default: class C road at 60 km/h, bump at 30 km/h); ``no_bump=True``
+        leaves the bump out; ``plot=PATH`` writes the occupant plot."""
         from .figures import SeatFiguresList, seat_figures
 
         assembly = options.pop("assembly", None) or _assembly_of(model)
-        options.setdefault("bump_speed_m_s", 30 / 3.6)
-        return SeatFiguresList([seat_figures(assembly, model, spec, **options)
-                                for spec in seat_specs(assembly)])
+        plot = options.pop("plot", None)
+        if options.pop("no_bump", None):
+            options["bump_speed_m_s"] = None
+        else:
+            options.setdefault("bump_speed_m_s", 30 / 3.6)
+        specs = seat_specs(assembly)
+        result = SeatFiguresList([seat_figures(assembly, model, spec, **options)
+                                  for spec in specs])
+        for figures in result:
+            if plot:
+                path = plot if len(result) == 1 else _suffixed(plot, figures.spec.name)
+                figures.occupant.plot(path)
+        return result
 
     def tables(self, assembly: Any, model: Any, **options: Any) -> list[tuple[str, Any]]:
         """(title, rows) pairs of every seat, for the report."""

@@ -433,6 +433,7 @@ class CushionTuning:
     converged: bool
     message: str
     evaluations: int
+    notes: tuple[str, ...] = ()
 
     @property
     def within_stroke(self) -> bool:
@@ -443,7 +444,7 @@ class CushionTuning:
                 "travel_sigma": self.travel_sigma, "start": dict(self.start),
                 "optimum": dict(self.optimum), "within_stroke": self.within_stroke,
                 "converged": self.converged, "message": self.message,
-                "evaluations": self.evaluations}
+                "evaluations": self.evaluations, "notes": list(self.notes)}
 
     def rows(self) -> list[list[Any]]:
         keys = (("stiffness_N_per_m", "cushion stiffness", "N/m"),
@@ -460,6 +461,7 @@ class CushionTuning:
         lines += [f"{q:<32} {a:>11.4g} {b:>11.4g} {u}" for q, a, b, u in self.rows()]
         lines.append(f"travel within stroke: {'yes' if self.within_stroke else 'no'}; "
                      f"{self.message} ({self.evaluations} evaluations)")
+        lines += [f"note: {n}" for n in self.notes]
         return "\n".join(lines)
 
 
@@ -509,6 +511,16 @@ def tune_cushion(assembly: Assembly, names: SeatNames, road_class: str, speed_m_
                       "fun": lambda z: 1.0 - travel_sigma * figures(z)[1] / stroke_m}],
         options={"ftol": 1e-7, "maxiter": 100})
     aw, tr = figures(result.x)
+    notes = []
+    for value, (lo, hi), what in ((result.x[0], stiffness_bounds, "stiffness"),
+                                  (result.x[1], damping_bounds, "damping")):
+        if abs(value - math.log(lo)) < 1e-3:
+            notes.append(f"the optimum {what} is at its lower bound {lo:g}: the bounds, "
+                         "not the stroke, stop the search there")
+        elif abs(value - math.log(hi)) < 1e-3:
+            notes.append(f"the optimum {what} is at its upper bound {hi:g}")
+    if travel_sigma * tr >= 0.999 * stroke_m:
+        notes.append("the stroke limits the optimum (travel constraint active)")
 
     def entry(k: float, c: float, a: float, t: float) -> dict[str, float]:
         return {"stiffness_N_per_m": k, "damping_N_s_per_m": c, "seat_z_weighted_rms": a,
@@ -517,4 +529,4 @@ def tune_cushion(assembly: Assembly, names: SeatNames, road_class: str, speed_m_
     return CushionTuning(str(road_class).upper(), float(speed_m_s), float(stroke_m),
                          float(travel_sigma), entry(k0, c0, aw0, tr0),
                          entry(math.exp(result.x[0]), math.exp(result.x[1]), aw, tr),
-                         bool(result.success), str(result.message), len(cache))
+                         bool(result.success), str(result.message), len(cache), tuple(notes))

@@ -2,10 +2,13 @@
 
 Layout (all names start with the plugin block's ``name`` and ``_``):
 
-- ``NAME_frame``: the seat frame (``frame_mass``), DOFs x and z, on the
-  vehicle body through one bushing per rail point (``rail_stiffness_x`` and
-  ``rail_stiffness_z`` are totals, shared equally between the rails; the
-  same for damping). The rails carry no moment: the frame has no rotations.
+- ``NAME_frame``: the seat frame (``frame_mass``) on the vehicle body through
+  one bushing per rail point (``rail_stiffness_x`` and ``rail_stiffness_z``
+  are totals, shared equally between the rails; the same for damping). Its
+  DOFs are x and z, plus the rotations the rail layout restrains (ry when the
+  rails differ in x, rx and rz when they differ in y), so that it follows the
+  body's pitch, roll and yaw instead of holding them against the ground (a
+  DOF a body lacks is held at zero). Lateral (y) motion is not modelled.
 - ``NAME_surface``: the cushion surface, DOF z: the cushion's moving mass
   (``cushion_mass``) plus the part of the occupant that moves with the seat
   without vibrating (the occupant model's seat mass). Joined to the frame by
@@ -40,7 +43,7 @@ from builder.errors import InputError, Where
 
 from .occupants import OCCUPANT_MODELS, SEAT, OccupantModel, scaled
 
-__all__ = ["SeatSpec", "add_seat", "seat_names", "SeatNames"]
+__all__ = ["SeatSpec", "add_seat", "seat_names", "SeatNames", "frame_dofs"]
 
 _Z = np.array([0.0, 0.0, 1.0])
 _X = np.array([1.0, 0.0, 0.0])
@@ -63,7 +66,7 @@ class SeatSpec:
     cushion_stiffness: float = 6.0e4
     cushion_damping: float = 500.0
     cushion_stiffness_x: float = 4.0e4
-    cushion_damping_x: float = 300.0
+    cushion_damping_x: float = 800.0
     occupant: str = "boileau_rakheja_1998"
     occupant_mass: float = 75.0
 
@@ -124,6 +127,15 @@ def _point_body(name: str, mass: float, cg: np.ndarray, dofs: tuple[str, ...],
                 {"kind": "box", "size": [2 * radius] * 3}, where)
 
 
+def frame_dofs(rails) -> tuple[str, ...]:
+    """DOFs of the seat frame: x, z and the rotations its rails restrain."""
+    r = np.asarray(rails, dtype=float).reshape(-1, 3)
+    spread_x = np.ptp(r[:, 0]) > 1e-6
+    spread_y = np.ptp(r[:, 1]) > 1e-6
+    return ("x", "z") + (("rx",) if spread_y else ()) + (("ry",) if spread_x else ()) + (
+        ("rz",) if spread_y else ())
+
+
 def _end(node: str, at: np.ndarray) -> End:
     return End(node, np.asarray(at, dtype=float).copy())
 
@@ -169,8 +181,8 @@ def add_seat(assembly: Assembly, spec: SeatSpec, where: Where | None = None) -> 
     links = dict(assembly.links)
     sensors = dict(assembly.sensors)
 
-    bodies[names.frame] = _point_body(names.frame, spec.frame_mass, frame_cg, ("x", "z"),
-                                      0.2, where)
+    bodies[names.frame] = _point_body(names.frame, spec.frame_mass, frame_cg,
+                                      frame_dofs(spec.rails), 0.25, where)
     bodies[names.surface] = _point_body(names.surface, surface_mass, top, ("z",), 0.05, where)
     seg_cg = {s.name: top + s.height * _Z for s in model.segments}
     for s in model.segments:
