@@ -150,7 +150,23 @@ def _step_response(A, B, C, D, t):
     return np.asarray(y).reshape(t.size, -1)
 
 
-@pytest.mark.parametrize("which", ["one_dof", "compact_car"])
+DAMPER_ONLY = """\
+format: 1
+name: mass on a damper
+motion: bounce
+bodies:
+  mass: {mass: 50, cg: [0, 0, 0.5], gyradius: {x: 0.2, y: 0.2, z: 0.2}}
+road:
+  base: {at: [0, 0, 0]}
+links:
+  d: {type: spring, a: mass, b: road.base, axis: z, stiffness: 0, damping: 400}
+sensors:
+  x: {body: mass, measure: displacement, direction: z}
+  a: {body: mass, measure: acceleration, direction: z}
+"""
+
+
+@pytest.mark.parametrize("which", ["one_dof", "compact_car", "damper_only"])
 def test_ramp_step_against_scipy_step(write_yaml, which):
     # Independent library: scipy.signal.step on the same state space. A ramp step of
     # height h over Tr = L / v is h / Tr (ramp(t) - ramp(t - Tr)) in r and
@@ -160,6 +176,8 @@ def test_ramp_step_against_scipy_step(write_yaml, which):
     # are whole numbers of samples.
     if which == "one_dof":
         model, v, L = _one_dof(write_yaml), 8.0, 0.16
+    elif which == "damper_only":      # a zero eigenvalue: the mass drifts with the road
+        model, v, L = assemble(load_assembly(write_yaml(DAMPER_ONLY))), 8.0, 0.16
     else:
         model, v, L = assemble(load_assembly(CARS / "compact_car.yaml")), 13.0, 0.13
     h, rate = 0.03, 1000.0

@@ -101,6 +101,8 @@ def resolve_inputs(model: Any, inputs: Sequence[Any] | None = None) -> _Inputs:
     (``"engine.rz"``: unit generalised force), or ``(name, vector)`` /
     ``(name, vector, unit)`` with a generalised force vector of length n.
     """
+    if isinstance(inputs, str):
+        inputs = [inputs]
     entries = list(model.inputs) if inputs is None else list(inputs)
     n, ns = model.n, len(model.sensors)
     Br, Bv, Bh = _dense(model.Br), _dense(model.Bv), _dense(model.Bh)
@@ -155,6 +157,8 @@ def resolve_inputs(model: Any, inputs: Sequence[Any] | None = None) -> _Inputs:
 def _sensor_rows(model: Any, sensors: Sequence[str] | None) -> list[int]:
     if sensors is None:
         return list(range(len(model.sensors)))
+    if isinstance(sensors, str):
+        sensors = [sensors]
     rows = [model.sensor_index(s) for s in sensors]
     if len(set(rows)) != len(rows):
         dup = next(s for s in sensors if list(sensors).count(s) > 1)

@@ -337,6 +337,8 @@ def _state_space(model: Any, sensors: Sequence[str] | None) -> tuple[NDArray, ..
         raise InputError("the model has no degrees of freedom", Where(field="--depth"))
     if not model.inputs:
         raise InputError("the model has no road points to excite", Where(field="road"))
+    if isinstance(sensors, str):
+        sensors = [sensors]
     rows = (list(range(len(model.sensors))) if sensors is None
             else [model.sensor_index(s) for s in sensors])
     if not rows:
