@@ -328,7 +328,8 @@ class FunctionProblem:
 class SweepResult:
     """One row per variant: parameter values (SI) and results.
 
-    ``ranks`` (modes sweeps) holds, for each tracked mode, its 0-based place
+    ``labels`` (modes sweeps, optional) names each tracked curve by the mode it
+    starts as. ``ranks`` (modes sweeps) holds, for each tracked mode, its 0-based place
     in the variant's frequency order, so ``sorted`` frequencies can be had back.
     """
 
@@ -339,6 +340,7 @@ class SweepResult:
     kind: str = ""
     ranks: np.ndarray | None = None
     units: tuple[str, ...] = field(default=())
+    labels: tuple[str, ...] = field(default=())
 
     def __len__(self) -> int:
         return int(self.values.shape[0])
@@ -403,15 +405,16 @@ class SweepResult:
         for g, rows in enumerate(groups.values()):
             rows = sorted(rows, key=lambda r: x[r])
             for c, col in enumerate(self.columns):
+                name = f"{col}: {self.labels[c]}" if c < len(self.labels) else col
                 ax.plot(x[rows], self.results[rows, c], color=colours[c % len(colours)],
                         alpha=1.0 if len(groups) == 1 else 0.35, lw=1.6,
-                        label=col if g == 0 else None)
+                        label=name if g == 0 else None)
         unit = self.units[self.names.index(p)] if self.units else ""
         ax.set_xlabel(f"{p} ({unit})" if unit else f"{p} (SI)")
         ax.set_ylabel("frequency (Hz)" if self.columns[0].endswith("_hz") else "result")
         ax.set_title("tracked modes (MAC)" if self.ranks is not None else "sweep")
         ax.grid(True, alpha=0.3)
-        ax.legend(fontsize=8, ncol=2)
+        ax.legend(fontsize=7, ncol=1 if self.labels else 2)
         fig.tight_layout()
         fig.savefig(path)
         plt.close(fig)

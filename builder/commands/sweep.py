@@ -214,6 +214,8 @@ def run(args: argparse.Namespace) -> int:
             print(f"lumpgraph: interrupted; the finished variants are in {args.csv}, "
                   "--resume continues", file=sys.stderr)
         raise
+    if isinstance(problem, sw.ModesProblem):
+        result = _with_labels(result, design, args, params, keep)
     if args.plot:
         if args.plot_against and args.plot_against not in design.names:
             raise InputError(f'"{args.plot_against}" is not a swept parameter',
@@ -223,12 +225,33 @@ def run(args: argparse.Namespace) -> int:
         print_json(result)
         return 0
     print(f"{len(design)} variants ({design.kind}) of {args.file}: {path}")
+    if result.labels:
+        start = "the first variant" if design.kind == "grid" else "the nominal design"
+        print(f"tracked modes (by MAC), named as in {start}:")
+        for col, label in zip(result.columns, result.labels, strict=False):
+            print(f"  {col}: {label}")
     _print_table(result)
     if args.csv:
         print(f"table written to {args.csv}")
     if args.plot:
         print(f"plot written to {args.plot}")
     return 0
+
+
+def _with_labels(result: Any, design: Any, args: argparse.Namespace, params: dict,
+                 keep: tuple[str, ...]) -> Any:
+    """The result with each curve named by the mode it starts as (the first
+    variant of a grid, else the nominal design)."""
+    import dataclasses
+
+    from ..analysis import sampling
+    from ..analysis import sweep as sw
+    from ..analysis.modes import compute_modes
+    row = design.values[0] if design.reference[0] == sampling.REF_NONE else design.nominal
+    fm = sw.FileModel(args.file, tuple((k, q.dim) for k, q in params.items()), args.depth, keep)
+    modes = compute_modes(fm.model(dict(zip(design.names, map(float, row), strict=True))))
+    labels = tuple(m.label for m in modes.modes[:len(result.columns)])
+    return dataclasses.replace(result, labels=labels)
 
 
 def _print_table(result: Any) -> None:
