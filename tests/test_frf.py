@@ -265,3 +265,32 @@ def test_frf_command_bad_input_is_one_line(run_cli, args, field):
     assert out == ""
     assert len(err.strip().splitlines()) == 1
     assert field in err
+
+
+def test_large_model_uses_the_sparse_path(write_yaml):
+    # Independent route: the dense batched solve of the same equations. A chain of 101
+    # spatial bodies (606 DOFs) is above SPARSE_LIMIT, so "auto" factorises per frequency.
+    from builder.analysis.frf import SPARSE_LIMIT
+
+    lines = ["format: 1", "name: chain", "motion: spatial", "bodies:"]
+    count = 101
+    for i in range(count):
+        lines.append(f"  b{i}: {{mass: 2, cg: [{-0.1 * i:.1f}, 0, 0.5], "
+                     "gyradius: {x: 0.1, y: 0.1, z: 0.1}}")
+    lines += ["road:", "  p: {at: [0, 0, 0]}", "links:",
+              "  tyre: {type: spring, a: b0, b: road.p, axis: z, stiffness: 1e5, damping: 50}",
+              "  hold: {type: bushing, a: b0, b: ground, stiffness: {x: 1e6, y: 1e6, z: 0, "
+              "rx: 1e4, ry: 1e4, rz: 1e4}}"]
+    for i in range(1, count):
+        lines.append(f"  j{i}: {{type: bushing, a: b{i}, b: {{body: b{i - 1}, at: "
+                     f"[{-0.1 * i:.1f}, 0, 0.5]}}, stiffness: {{x: 1e6, y: 1e6, z: 1e6, "
+                     "rx: 1e4, ry: 1e4, rz: 1e4}, damping: {z: 20}, loss_factor: 0.02}")
+    lines += ["sensors:", f"  tip: {{body: b{count - 1}, measure: acceleration, direction: z}}",
+              "  first: {link: tyre, measure: force}"]
+    model = _model(write_yaml, "\n".join(lines) + "\n")
+    assert model.n > SPARSE_LIMIT
+    f = np.geomspace(1.0, 200.0, 12)
+    fr = frequency_response(model, f, inputs=["road.p", "b50.y"])
+    assert fr.method == "sparse"
+    dense = frequency_response(model, f, inputs=["road.p", "b50.y"], method="direct")
+    np.testing.assert_allclose(fr.H, dense.H, rtol=1e-8, atol=1e-10 * np.abs(dense.H).max())
