@@ -638,16 +638,7 @@ def _csv_text(rows: list[list[str]]) -> str:
 
 
 def _write_atomic(path: str, text: str) -> None:
-    try:
-        from ..io import write_atomic
-    except ImportError:  # the core's helper; same behaviour
-        tmp = f"{path}.tmp{os.getpid()}"
-        with open(tmp, "w", newline="") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-        return
+    from ..io import write_atomic
     write_atomic(path, text)
 
 
