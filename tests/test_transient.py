@@ -379,3 +379,21 @@ def test_bump_command_bad_input_is_one_line(run_cli, args, field):
     assert out == ""
     assert len(err.strip().splitlines()) == 1
     assert field in err
+
+
+def test_tyre_static_load_and_lift_off_note():
+    # Analytic: the static tyre load of the quarter car under 1 g is the weight of both
+    # masses, (300 + 36) kg x 9.80665 m/s^2 (standard gravity).
+    model = assemble(load_assembly(CARS / "quarter_car.yaml"))
+    small = event_response(model, road_event("bump", 0.005, 1.0), 5.0)
+    weight = (300 + 36) * 9.80665
+    assert abs(small.static["tyre_load"]) == pytest.approx(weight, rel=1e-9)
+    ratio = small.least_load_ratio["tyre_load"]
+    assert ratio == pytest.approx(np.min(1 + small.history("tyre_load") / small.static[
+        "tyre_load"]), rel=1e-12)
+    assert 0 < ratio < 1 and not any("lift off" in n for n in small.notes)
+    big = event_response(model, road_event("bump", 0.12, 0.3), 15.0)
+    assert big.least_load_ratio["tyre_load"] < 0
+    assert any("lift off" in n for n in big.notes)
+    assert "least_load_ratio" in big.to_dict()["sensors"]["tyre_load"]
+    assert "travel" not in big.static

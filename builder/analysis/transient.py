@@ -548,11 +548,49 @@ def _result(model: Any, assembly: Any, rows: NDArray, t: NDArray, r: NDArray, y:
         weighted_rms[name] = float(np.sqrt(np.mean(aw**2)))
         vdv[name] = comfort.vdv(t, aw)
         crest[name] = comfort.crest_factor(aw)
+    static, least = _contact_loads(model, asm, rows, names, measures, y)
+    if any(ratio < 0 for ratio in least.values()):
+        lifted = ", ".join(n for n, ratio in least.items() if ratio < 0)
+        notes = [*notes, f"the load through {lifted} changes sign (the wheel would lift off); "
+                 "the linear model does not leave the road, so the response after that "
+                 "instant is not physical"]
     return TimeResponse(
         time_s=t, inputs=tuple(model.inputs), road_m=r, sensors=names, units=units,
         measures=measures, y=y, speed_m_s=float(v), event=dict(event),
         description=description, weighting=weighting, weighted_rms=weighted_rms, vdv=vdv,
-        crest_factor=crest, model_name=getattr(model, "name", ""), notes=tuple(notes))
+        crest_factor=crest, static=static, least_load_ratio=least,
+        model_name=getattr(model, "name", ""), notes=tuple(notes))
+
+
+def _contact_loads(model: Any, asm: Any, rows: NDArray, names: tuple[str, ...],
+                   measures: tuple[str, ...], y: NDArray) -> tuple[dict, dict]:
+    """Static force under 1 g (N) of the force sensors on links to a road point, and the
+    least of (static + dynamic) / static over the record (negative: the load reverses)."""
+    wanted = [k for k, (name, measure) in enumerate(zip(names, measures, strict=True))
+              if measure == "force" and asm is not None and name in asm.sensors
+              and _touches_road(asm, asm.sensors[name])]
+    if not wanted:
+        return {}, {}
+    try:
+        q = model.static_response()
+    except Exception:  # noqa: BLE001 - no static equilibrium: no static loads
+        return {}, {}
+    if q is None or not np.all(np.isfinite(q)):
+        return {}, {}
+    Sd = model.Sd.toarray() if hasattr(model.Sd, "toarray") else np.asarray(model.Sd)
+    static, least = {}, {}
+    for k in wanted:
+        s0 = float(Sd[rows[k]] @ q)
+        static[names[k]] = s0
+        if s0 != 0.0:
+            least[names[k]] = float(np.min((s0 + y[:, k]) / s0))
+    return static, least
+
+
+def _touches_road(asm: Any, sensor: Any) -> bool:
+    link = asm.links.get(getattr(sensor, "target", ""))
+    return link is not None and any(str(getattr(e, "node", "")).startswith("road.")
+                                    for e in (link.a, link.b))
 
 
 @dataclass(frozen=True, eq=False)
@@ -561,7 +599,10 @@ class TimeResponse:
     road displacements ``road_m (nt, nr)`` (m) that caused them and their figures.
 
     ``weighting``, ``weighted_rms`` (m/s^2 or rad/s^2), ``vdv`` (m/s^1.75 or
-    rad/s^1.75) and ``crest_factor`` are keyed by the acceleration sensors' names.
+    rad/s^1.75) and ``crest_factor`` are keyed by the acceleration sensors' names;
+    ``static`` (N, under 1 g) and ``least_load_ratio`` (least total over static
+    load; below 0 the load reverses and a wheel would lift off) by the force
+    sensors on links to a road point.
     """
 
     time_s: NDArray
@@ -578,6 +619,8 @@ class TimeResponse:
     weighted_rms: dict[str, float] = field(default_factory=dict)
     vdv: dict[str, float] = field(default_factory=dict)
     crest_factor: dict[str, float] = field(default_factory=dict)
+    static: dict[str, float] = field(default_factory=dict)
+    least_load_ratio: dict[str, float] = field(default_factory=dict)
     model_name: str = ""
     notes: tuple[str, ...] = ()
     caution: str = comfort.CAUTION
@@ -626,6 +669,10 @@ class TimeResponse:
                              weighted_rms=self.weighted_rms[name], vdv=self.vdv[name],
                              vdv_unit=self._vdv_unit(name),
                              crest_factor=self.crest_factor[name])
+            if name in self.static:
+                entry["static"] = self.static[name]
+            if name in self.least_load_ratio:
+                entry["least_load_ratio"] = self.least_load_ratio[name]
             sensors[name] = entry
         out: dict[str, Any] = {
             "model": self.model_name, "description": self.description, "event": self.event,
@@ -665,6 +712,9 @@ class TimeResponse:
                 extra = (f"{self.weighting[name]}, {self._vdv_unit(name)}; weighted RMS "
                          f"{self.weighted_rms[name]:.3g}, crest factor "
                          f"{self.crest_factor[name]:.3g}")
+            elif name in self.least_load_ratio:
+                extra = (f"static {self.static[name]:.4g} {unit}, least load "
+                         f"{100 * self.least_load_ratio[name]:.0f} % of static")
             lines.append(f"{name:<20} {measure:<13} {peak[name]:>11.4g} {mx[name]:>11.4g} "
                          f"{mn[name]:>11.4g} {rms[name]:>11.4g} {unit:<8} {vdv:>10}  "
                          f"{extra}".rstrip())
