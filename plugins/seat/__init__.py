@@ -178,10 +178,13 @@ class SeatPlugin:
                             help='speed over the bump (default "30 km/h")')
         parser.add_argument("--bump-height", dest="bump_height_m", metavar="H",
                             type=quantity("length", "--bump-height"),
-                            help='cosine bump height (default "50 mm")')
+                            help='half-sine bump height (default "50 mm")')
         parser.add_argument("--bump-length", dest="bump_length_m", metavar="L",
                             type=quantity("length", "--bump-length"),
-                            help='cosine bump length (default "0.5 m")')
+                            help='bump length (default "0.5 m")')
+        parser.add_argument("--bump-shape", dest="bump_shape", metavar="SHAPE",
+                            choices=("bump", "pothole", "step"),
+                            help="road event: bump (default), pothole or step")
         parser.add_argument("--no-bump", dest="no_bump", action="store_true", default=None,
                             help="leave out the bump figures")
         parser.add_argument("--stroke", dest="stroke_m", metavar="S",

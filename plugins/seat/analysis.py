@@ -12,9 +12,10 @@
   at seat surface (x: Wd, z: Wk), floor and head, the SEAT value per axis,
   the comfort vector sum and the ISO 2631-1 Annex C comfort reactions at the
   seat surface, and the RMS cushion travel.
-- :func:`seat_bump`: the same seat figures for one cosine bump crossed by
-  both tracks at a speed: VDV (m/s^1.75), weighted RMS over the event, peak
-  weighted acceleration and crest factor, peak cushion travel.
+- :func:`seat_bump`: seat figures for one road event (half-sine bump,
+  pothole or ramp step) crossed at a speed, from the exact transient of
+  :mod:`builder.analysis.transient`: VDV (m/s^1.75), weighted RMS over the
+  record, peak weighted acceleration and crest factor, peak cushion travel.
 - :func:`tune_cushion`: cushion stiffness and damping that minimise the
   vertical weighted RMS at the seat surface on a road (scipy.optimize), with
   the cushion travel kept inside a given stroke.
@@ -52,7 +53,7 @@ from .occupants import (
 
 __all__ = [
     "OccupantResponse", "occupant_response", "seat_value", "seat_value_from_transmissibility",
-    "SeatRide", "seat_ride", "SeatBump", "seat_bump", "bump_profile", "CushionTuning",
+    "SeatRide", "seat_ride", "SeatBump", "seat_bump", "CushionTuning",
     "tune_cushion", "with_cushion",
 ]
 
@@ -292,27 +293,15 @@ def seat_ride(model: LinearModel, names: SeatNames, road_class: str, speed_m_s: 
 
 
 # ---------------------------------------------------------------- bump --
-def bump_profile(s: ArrayLike, height_m: float, length_m: float) -> tuple[NDArray, NDArray]:
-    """A cosine bump: height (m) and slope d height / d s at road distances ``s`` (m).
-
-    ``h(s) = height/2 (1 - cos(2 pi s / length))`` for ``0 <= s <= length``, else 0.
-    """
-    s = np.asarray(s, dtype=float)
-    inside = (s >= 0.0) & (s <= length_m)
-    k = 2.0 * np.pi / length_m
-    h = np.where(inside, 0.5 * height_m * (1.0 - np.cos(k * s)), 0.0)
-    slope = np.where(inside, 0.5 * height_m * k * np.sin(k * s), 0.0)
-    return h, slope
-
-
 @dataclass(frozen=True, eq=False)
 class SeatBump:
-    """Seat figures over one bump: per axis VDV (m/s^1.75), weighted RMS over the
-    record (m/s^2), peak weighted acceleration (m/s^2) and crest factor; peak
-    cushion travel (m, absolute)."""
+    """Seat figures over one road event: per place (seat x, seat z, floor z, head z)
+    VDV (m/s^1.75), weighted RMS over the record (m/s^2), peak weighted
+    acceleration (m/s^2) and crest factor; peak cushion travel (m, absolute)."""
 
     seat_name: str
     speed_m_s: float
+    shape: str
     height_m: float
     length_m: float
     duration_s: float
@@ -321,16 +310,16 @@ class SeatBump:
     peak: dict[str, float]
     crest_factor: dict[str, float]
     travel_peak: float
-    time_s: NDArray = field(repr=False, default_factory=lambda: np.zeros(0))
-    histories: dict[str, NDArray] = field(repr=False, default_factory=dict)
+    response: Any = field(repr=False, default=None)
     notes: tuple[str, ...] = ()
 
     def to_dict(self) -> dict:
-        return {"seat": self.seat_name, "speed_m_s": self.speed_m_s, "bump_height_m":
-                self.height_m, "bump_length_m": self.length_m, "duration_s": self.duration_s,
-                "vdv": dict(self.vdv), "weighted_rms": dict(self.weighted_rms),
-                "peak_weighted": dict(self.peak), "crest_factor": dict(self.crest_factor),
-                "travel_peak_m": self.travel_peak, "notes": list(self.notes)}
+        return {"seat": self.seat_name, "speed_m_s": self.speed_m_s, "shape": self.shape,
+                "height_m": self.height_m, "length_m": self.length_m,
+                "duration_s": self.duration_s, "vdv": dict(self.vdv),
+                "weighted_rms": dict(self.weighted_rms), "peak_weighted": dict(self.peak),
+                "crest_factor": dict(self.crest_factor), "travel_peak_m": self.travel_peak,
+                "notes": list(self.notes)}
 
     def rows(self) -> list[list[Any]]:
         out: list[list[Any]] = []
@@ -343,7 +332,7 @@ class SeatBump:
         return out
 
     def table(self) -> str:
-        lines = [f"seat {self.seat_name}: cosine bump {self.height_m * 1000:.0f} mm high, "
+        lines = [f"seat {self.seat_name}: half-sine {self.shape} {self.height_m * 1000:.0f} mm, "
                  f"{self.length_m:.2f} m long, at {self.speed_m_s * 3.6:.3g} km/h "
                  f"({self.duration_s:.1f} s record)", ""]
         lines += [f"{q:<30} {v:>10.4g} {u}" for q, v, u in self.rows()]
@@ -352,58 +341,30 @@ class SeatBump:
 
 
 def seat_bump(model: LinearModel, names: SeatNames, speed_m_s: float, height_m: float = 0.05,
-              length_m: float = 0.5, *, settle_s: float = 3.0,
-              sample_rate_hz: float = 1000.0) -> SeatBump:
-    """Seat figures for a cosine bump (both tracks) crossed at ``speed_m_s`` (m/s).
+              length_m: float = 0.5, *, shape: str = "bump", assembly: Assembly | None = None,
+              rate_hz: float = 1000.0) -> SeatBump:
+    """Seat figures for a road event (``shape`` bump, pothole or step of
+    :func:`builder.analysis.transient.road_event`) crossed at ``speed_m_s`` (m/s).
 
-    Each road point meets the bump after ``(x_front - x) / v``. The response is
-    the model's state space (hysteretic damping left out) simulated with
-    ``scipy.signal.lsim`` at ``sample_rate_hz`` from rest; accelerations are
-    weighted by the causal ISO 2631-1 filters (x: Wd, z: Wk, head: Wk).
-    ``lsim`` interpolates the road input linearly between samples, which puts
-    spurious content near the model's highest modes; a note says when the
-    model has modes above a quarter of the sample rate (raise it, or soften
-    near-rigid links).
+    The response is the exact transient of
+    :func:`builder.analysis.transient.event_response`, sampled at ``rate_hz``;
+    accelerations are weighted by the causal ISO 2631-1 filters (x: Wd, z: Wk).
     """
-    from scipy import signal
+    from builder.analysis.transient import event_response, road_event
 
-    for value, what in ((speed_m_s, "speed"), (height_m, "bump height"),
-                        (length_m, "bump length")):
-        if not math.isfinite(value) or value <= 0:
-            raise InputError(f"{what} must be positive, got {value:g}", Where(field=what))
-    x = np.asarray(model.input_positions, dtype=float)[:, 0]
-    delay = (x.max() - x) / speed_m_s
-    duration = float(delay.max() + length_m / speed_m_s + settle_s)
-    t = np.arange(0.0, duration, 1.0 / sample_rate_hz)
-    s = speed_m_s * (t[:, None] - delay[None, :])
-    r, slope = bump_profile(s, height_m, length_m)
-    u = np.hstack([r, slope * speed_m_s])
-    A, B, C, D = model.to_state_space()
-    notes = []
-    fastest = float(np.max(np.abs(np.linalg.eigvals(A)))) / (2 * np.pi) if A.size else 0.0
-    if fastest > 0.25 * sample_rate_hz:
-        notes.append(f"the model has modes up to {fastest:.0f} Hz, above a quarter of the "
-                     f"{sample_rate_hz:g} Hz sample rate: raise the rate")
-    wanted = _seat_sensors(names)
-    rows = [model.sensors.index(n) for n in wanted]
-    system = signal.StateSpace(A, B, C[rows], D[rows])
-    _, y, _ = signal.lsim(system, u, t)
-    y = np.atleast_2d(y.T).T if y.ndim == 1 else y
-    hist = {n: y[:, i] for i, n in enumerate(wanted)}
-    places = {"seat x": (names.seat_x, "Wd"), "seat z": (names.seat_z, "Wk"),
-              "floor z": (names.floor_z, "Wk")}
+    event = road_event(shape, height_m, length_m)
+    places = {"seat x": names.seat_x, "seat z": names.seat_z, "floor z": names.floor_z}
     if names.head_z:
-        places["head z"] = (names.head_z, "Wk")
-    vdv, rms, peak, crest = {}, {}, {}, {}
-    for place, (sensor, w) in places.items():
-        aw = comfort.weighted_time_history(t, hist[sensor], w, method="iir")
-        vdv[place] = comfort.vdv(t, aw, None)
-        rms[place] = float(np.sqrt(np.mean(aw**2)))
-        peak[place] = float(np.max(np.abs(aw)))
-        crest[place] = comfort.crest_factor(aw)
-    return SeatBump(names.seat, float(speed_m_s), float(height_m),
-                    float(length_m), duration, vdv, rms, peak, crest,
-                    float(np.max(np.abs(hist[names.travel]))), t, hist, tuple(notes))
+        places["head z"] = names.head_z
+    res = event_response(model, event, speed_m_s, rate_hz=rate_hz, assembly=assembly,
+                         sensors=[*places.values(), names.travel])
+    vdv = {p: res.vdv[n] for p, n in places.items()}
+    rms = {p: res.weighted_rms[n] for p, n in places.items()}
+    crest = {p: res.crest_factor[n] for p, n in places.items()}
+    peak = {p: crest[p] * rms[p] for p in places}
+    return SeatBump(names.seat, float(speed_m_s), shape, float(height_m), float(length_m),
+                    float(res.time_s[-1] - res.time_s[0]), vdv, rms, peak, crest,
+                    float(res.peak[names.travel]), res, tuple(res.notes))
 
 
 # -------------------------------------------------------------- tuning --

@@ -73,7 +73,7 @@ class SeatFigures:
                           ["ISO 2631-1 comfort", "xyz", ", ".join(r.comfort.reactions), ""]]))
         if self.bump is not None:
             b = self.bump
-            rows.append((f"Seat {s}: bump {b.height_m * 1000:.0f} mm x {b.length_m:.2f} m at "
+            rows.append((f"Seat {s}: {b.shape} {b.height_m * 1000:.0f} mm x {b.length_m:.2f} m at "
                          f"{b.speed_m_s * 3.6:.3g} km/h",
                          [["quantity", "value", "unit"], *b.rows()]))
         if self.tuning is not None:
@@ -99,7 +99,8 @@ class SeatFiguresList(list):
 def seat_figures(assembly: Any, model: Any, spec: SeatSpec, *, road_class: str | None = "C",
                  speed_m_s: float = 60 / 3.6, tracks: str = "coherent",
                  bump_speed_m_s: float | None = None, bump_height_m: float = 0.05,
-                 bump_length_m: float = 0.5, stroke_m: float | None = None,
+                 bump_length_m: float = 0.5, bump_shape: str = "bump",
+                 stroke_m: float | None = None,
                  points: int = 1500) -> SeatFigures:
     """Figures of the seat ``spec`` in ``model`` (assembled from ``assembly``).
 
@@ -117,5 +118,6 @@ def seat_figures(assembly: Any, model: Any, spec: SeatSpec, *, road_class: str |
             tuning = tune_cushion(assembly, names, road_class, speed_m_s, stroke_m,
                                   tracks=tracks)
     if bump_speed_m_s is not None and model.inputs:
-        bump = seat_bump(model, names, bump_speed_m_s, bump_height_m, bump_length_m)
+        bump = seat_bump(model, names, bump_speed_m_s, bump_height_m, bump_length_m,
+                         shape=bump_shape, assembly=assembly)
     return SeatFigures(spec, occ, ride, bump, tuning)
