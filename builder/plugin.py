@@ -59,12 +59,19 @@ _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
 
 @dataclass(frozen=True)
 class Parameter:
-    """A plugin parameter: name, unit dimension or kind, SI default (None: none), help."""
+    """A plugin parameter: name, unit dimension or kind, SI default (None: none), help.
+
+    A parameter of kind ``"records"`` is a list of mappings whose own keys are
+    declared in ``fields`` (Parameters again), e.g. the mounts of a powertrain;
+    the core refuses unknown keys of every record and checks the dimension of
+    its scalar quantities, like the top-level ones.
+    """
 
     name: str
     dimension: str
     default: Any = None
     help: str = ""
+    fields: tuple[Parameter, ...] = ()
 
 
 @dataclass(frozen=True, eq=False)
@@ -126,6 +133,15 @@ def declaration_problem(obj: Any) -> str:
         if p.name in seen:
             return f"declares parameter {p.name!r} twice"
         seen.add(p.name)
+        sub = getattr(p, "fields", ()) or ()
+        if sub:
+            inner = set()
+            for f in sub:
+                if not all(hasattr(f, a) for a in ("name", "dimension", "default", "help")):
+                    return f"parameter {p.name!r} declares a record field badly"
+                if f.name in inner:
+                    return f"parameter {p.name!r} declares record field {f.name!r} twice"
+                inner.add(f.name)
     return ""
 
 
@@ -188,10 +204,22 @@ def _check_fields(plugin: Any, node: Node | None, parameters: Mapping[str, Quant
         return {}
     fields = node.mapping(declared, what="a mapping of the plugin's parameters")
     for key, value in fields.items():
-        dim = declared[key].dimension
-        if dim in DIMENSIONS and not (value.is_map or value.is_list):
-            value.quantity(dim, parameters)
+        _check_value(declared[key], value, parameters)
     return fields
+
+
+def _check_value(p: Any, value: Node, parameters: Mapping[str, Quantity]) -> None:
+    """Dimension of a scalar quantity; keys and fields of each record of a records list."""
+    dim = p.dimension
+    sub = getattr(p, "fields", ()) or ()
+    if sub:
+        declared = {f.name: f for f in sub}
+        for item in value.items_list(f"a list of records ({', '.join(declared)})"):
+            for key, v in item.mapping(declared, what="a record {"
+                                       + ", ".join(declared) + "}").items():
+                _check_value(declared[key], v, parameters)
+    elif dim in DIMENSIONS and not (value.is_map or value.is_list):
+        value.quantity(dim, parameters)
 
 
 def validate_plugin_uses(node: Node, parameters: Mapping[str, Quantity]) -> list[PluginUse]:

@@ -18,22 +18,39 @@ def _default(value: object) -> str:
     return "none" if value is None else repr(value) if isinstance(value, str) else f"{value}"
 
 
+def _declared(q: object) -> dict[str, object]:
+    d = getattr(q, "default", None)
+    out: dict[str, object] = {
+        "name": q.name, "dimension": q.dimension,
+        "default": d if isinstance(d, int | float | str | type(None)) else str(d),
+        "help": q.help}
+    fields = getattr(q, "fields", ()) or ()
+    if fields:
+        out["fields"] = [_declared(f) for f in fields]
+    return out
+
+
+def _print_parameters(params: object, indent: str) -> None:
+    width = max((len(q.name) for q in params), default=0)
+    for q in params:
+        print(f"{indent}{q.name:<{width}}  [{q.dimension}; default {_default(q.default)}] "
+              f"{q.help}")
+        fields = getattr(q, "fields", ()) or ()
+        if fields:
+            _print_parameters(fields, indent + "    ")
+
+
 def run(args: argparse.Namespace) -> int:
     plugins, problems = installed_plugins()
     if args.json:
         print_json({"plugins": [
             {"name": p.name, "summary": getattr(p, "summary", ""),
-             "parameters": [{"name": q.name, "dimension": q.dimension,
-                             "default": q.default if isinstance(q.default, int | float | str
-                                                                | type(None)) else str(q.default),
-                             "help": q.help} for q in p.parameters]}
+             "parameters": [_declared(q) for q in p.parameters]}
             for p in plugins.values()], "problems": problems})
         return 0
     for p in plugins.values():
         print(f"{p.name}: {getattr(p, 'summary', '')}")
-        width = max((len(q.name) for q in p.parameters), default=0)
-        for q in p.parameters:
-            print(f"  {q.name:<{width}}  [{q.dimension}; default {_default(q.default)}] {q.help}")
+        _print_parameters(p.parameters, "  ")
         print()
     for problem in problems:
         print(f"warning: {problem}")

@@ -81,13 +81,15 @@ PARAMETERS: tuple[Parameter, ...] = (
               "crankshaft direction [x, y, z] (default transverse, along y)"),
     Parameter("cylinders", "integer", 4, "number of cylinders"),
     Parameter("strokes", "integer", 4, "4 (four-stroke) or 2 (two-stroke)"),
-    Parameter("idle_speed", "angular_speed", 800 * _RPM, "idle speed, rad/s (e.g. 800 rpm)"),
-    Parameter("max_speed", "angular_speed", 6000 * _RPM, "highest speed, rad/s (e.g. 6000 rpm)"),
+    Parameter("idle_speed", "angular_speed", 800 * _RPM,
+              "idle speed, rad/s (default 800 rpm; write e.g. \"750 rpm\")"),
+    Parameter("max_speed", "angular_speed", 6000 * _RPM,
+              "highest speed, rad/s (default 6000 rpm)"),
     Parameter("roll_torque", "torque", 100.0,
               "amplitude of the oscillating torque about the crank at firing frequency, N m"),
     Parameter("attach_to", "name", "body", "body the mounts are fixed to (or ground)"),
-    Parameter("mounts", "records", None,
-              "list of mounts, each {" + ", ".join(p.name for p in MOUNT_FIELDS) + "}"),
+    Parameter("mounts", "records", None, "list of mounts (required), each with the fields:",
+              fields=MOUNT_FIELDS),
 )
 
 
