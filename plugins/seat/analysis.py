@@ -221,6 +221,16 @@ class SeatRide:
     comfort: comfort.ComfortEvaluation
     travel_rms: float
     notes: tuple[str, ...] = field(default_factory=tuple)
+    vdv_duration_s: float | None = None
+    vdv: dict[str, float] = field(default_factory=dict)
+
+    @property
+    def estimated_vdv(self) -> dict[str, float]:
+        """eVDV = 1.4 a_w T^(1/4) (m/s^1.75) per axis over ``vdv_duration_s``
+        (ISO 2631-1's estimate for steady vibration; empty without a duration)."""
+        if not self.vdv_duration_s:
+            return {}
+        return {a: 1.4 * self.seat[a] * self.vdv_duration_s ** 0.25 for a in self.seat}
 
     def to_dict(self) -> dict:
         return {
@@ -228,8 +238,9 @@ class SeatRide:
             "seat_weighted_rms": dict(self.seat), "floor_weighted_rms": dict(self.floor),
             "seat_value_percent": dict(self.seat_value), "head_weighted_rms": self.head,
             "vector_sum": self.comfort.total, "comfort": list(self.comfort.reactions),
-            "travel_rms_m": self.travel_rms, "notes": list(self.notes),
-            "caution": self.comfort.caution,
+            "travel_rms_m": self.travel_rms, "vdv_duration_s": self.vdv_duration_s,
+            "vdv": dict(self.vdv), "estimated_vdv": self.estimated_vdv,
+            "notes": list(self.notes), "caution": self.comfort.caution,
         }
 
     def rows(self) -> list[list[Any]]:
@@ -245,6 +256,12 @@ class SeatRide:
         out.append(["seat vector sum (comfort, y not modelled)", "xyz", self.comfort.total,
                     "m/s^2"])
         out.append(["cushion travel RMS", "z", self.travel_rms, "m"])
+        evdv = self.estimated_vdv
+        for axis, value in self.vdv.items():
+            out.append([f"seat VDV over {self.vdv_duration_s:g} s (simulated)", axis, value,
+                        "m/s^1.75"])
+            out.append([f"seat eVDV = 1.4 a_w T^1/4 over {self.vdv_duration_s:g} s", axis,
+                        evdv[axis], "m/s^1.75"])
         return out
 
     def table(self) -> str:
@@ -264,10 +281,14 @@ def _seat_sensors(names: SeatNames) -> list[str]:
 
 def seat_ride(model: LinearModel, names: SeatNames, road_class: str, speed_m_s: float, *,
               assembly: Assembly | None = None, tracks: str = "coherent",
-              frequency_hz: ArrayLike | None = None, points: int = 1500) -> SeatRide:
+              frequency_hz: ArrayLike | None = None, points: int = 1500,
+              vdv_duration_s: float | None = 20.0, seed: int = 1) -> SeatRide:
     """Seat figures on an ISO 8608 road of ``road_class`` at ``speed_m_s`` (m/s).
 
-    Uses :func:`builder.analysis.ride.ride_response` for the sensor PSDs.
+    Uses :func:`builder.analysis.ride.ride_response` for the sensor PSDs. The
+    seat VDV (m/s^1.75) comes from one realisation of the road over
+    ``vdv_duration_s`` (s; random generator ``seed``) through
+    :func:`builder.analysis.transient.random_road_response`; None skips it.
     """
     f = frequency_grid(points=points) if frequency_hz is None else frequency_hz
     result = ride_response(model, road_class, speed_m_s, tracks=tracks, frequency_hz=f,
@@ -285,11 +306,20 @@ def seat_ride(model: LinearModel, names: SeatNames, road_class: str, speed_m_s: 
             value[axis] = math.nan
             notes.append(f"no {axis} vibration at the floor: SEAT {axis} undefined")
     head = s[names.head_z].weighted_rms if names.head_z else None
+    vdv: dict[str, float] = {}
+    if vdv_duration_s:
+        from builder.analysis.transient import random_road_response
+
+        history = random_road_response(model, road_class, speed_m_s, vdv_duration_s,
+                                       seed=seed, tracks=tracks, assembly=assembly,
+                                       sensors=[names.seat_x, names.seat_z])
+        vdv = {"x": history.vdv[names.seat_x], "z": history.vdv[names.seat_z]}
     evaluation = comfort.evaluate_comfort({"x": seat["x"], "z": seat["z"]},
-                                          comfort.COMFORT_SEAT)
+                                          comfort.COMFORT_SEAT, vdv)
     notes.append("lateral (y) seat vibration is not modelled")
     return SeatRide(names.seat, result.road_class, result.speed_m_s,
-                    seat, floor, value, head, evaluation, s[names.travel].rms, tuple(notes))
+                    seat, floor, value, head, evaluation, s[names.travel].rms, tuple(notes),
+                    float(vdv_duration_s) if vdv_duration_s else None, vdv)
 
 
 # ---------------------------------------------------------------- bump --
