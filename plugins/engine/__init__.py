@@ -295,6 +295,38 @@ def _in_vehicle(model: Any, spec: EngineSpec, axes: np.ndarray) -> tuple[Table |
     return table, ""
 
 
+def _vehicle_roll_response(model: Any, spec: EngineSpec, rpm: np.ndarray
+                           ) -> tuple[Table | None, str]:
+    """Body-side sensor responses of the vehicle model to the oscillating roll torque."""
+    if model is None:
+        return None, "no vehicle model"
+    picked = [i for i, (n, m) in enumerate(zip(model.sensors, model.sensor_measures,
+                                                strict=True))
+              if m == "acceleration" and not n.startswith(f"{spec.name}_")][:6]
+    if not picked:
+        return None, "the file has no body acceleration sensors"
+    try:
+        load = sum(spec.roll_torque * float(c) * model.force_input(spec.name, None, d)
+                   for c, d in zip(spec.crank_axis, ("rx", "ry", "rz"), strict=True))
+    except Exception:  # a depth that condensed the powertrain away
+        return None, "the vehicle model does not keep the powertrain"
+    M, C, K, H = (np.asarray(a.toarray()) for a in (model.M, model.C, model.K, model.H))
+    Sd, Sv, Sa, Sh = (np.asarray(a.toarray())[picked] for a in
+                      (model.Sd, model.Sv, model.Sa, model.Sh))
+    fire = an.firing_frequency(rpm, spec.cylinders, spec.strokes)
+    rows = []
+    for r, f in zip(rpm, fire, strict=True):
+        w = 2 * math.pi * float(f)
+        q = np.linalg.solve(K + 1j * H + 1j * w * C - w * w * M, np.asarray(load, complex))
+        y = (Sd + 1j * Sh + 1j * w * Sv - w * w * Sa) @ q
+        rows.append((round(float(r), 0), round(float(f), 2),
+                     *(float(f"{abs(v):.4g}") for v in y)))
+    names = [f"{model.sensors[i]} {model.sensor_units[i]}" for i in picked]
+    return Table(f"{spec.name}: body-side response to a {spec.roll_torque:g} N m roll torque "
+                 "at firing frequency (in the vehicle)", ("rpm", "firing Hz", *names),
+                 tuple(rows), ("amplitudes of the body acceleration sensors",)), ""
+
+
 def engine_report(spec: EngineSpec, model: Any = None, axes_kind: str = "crank",
                   speeds: int = 12, target_roll_hz: float | None = None,
                   target_bounce_hz: float | None = None) -> EngineReport:
@@ -356,6 +388,9 @@ def engine_report(spec: EngineSpec, model: Any = None, axes_kind: str = "crank",
         tuple((round(float(r), 0), round(float(f), 2), *(round(float(x), 1) for x in row))
               for r, f, row in zip(rpm, fire, resp.forces, strict=True)),
         ("force amplitude of each mount's translational components",)))
+    body_side, why_body = _vehicle_roll_response(model, spec, rpm)
+    if body_side is not None:
+        tables.append(body_side)
     figures: dict[str, Any] = {
         "frequencies_hz": _vec(freqs, 6), "energy": [_vec(r, 6) for r in energy],
         "axes": [_vec(a, 6) for a in axes], "torque_roll_axis": _vec(tra, 6),
