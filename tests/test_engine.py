@@ -379,3 +379,10 @@ def test_body_side_roll_torque_response_matches_python_control():
         resp = control.frequency_response(sys_, [w])
         mag = np.asarray(resp.magnitude).reshape(len(rows))
         assert list(row[2:]) == pytest.approx(mag, rel=2e-3)   # firing Hz is rounded in the table
+
+
+def test_mode_labels_use_crank_aligned_words():
+    # Words only (no outside value): the powertrain's modes are named in its own axes.
+    labels = [m.label for m in compute_modes(assemble(load_text(engine_yaml()))).modes]
+    assert any(lab.startswith("pt roll about the crank") for lab in labels)
+    assert any(lab.startswith("pt bounce") for lab in labels)

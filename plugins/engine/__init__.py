@@ -481,6 +481,11 @@ class EnginePlugin:
                             help="target bounce frequency for mount-rate scaling")
         parser.add_argument("--plot", metavar="FILE", help="write the order plot")
 
+    def label_mode(self, model: Any, shape: np.ndarray, energy: np.ndarray) -> str | None:
+        """Words for a mode mostly in a powertrain, in its crank-aligned axes
+        (roll = about the crankshaft), e.g. ``"engine roll about the crank with bounce"``."""
+        return _label(model, shape, energy)
+
     def analyse(self, model: Any, **options: Any) -> Any:
         """An :class:`EngineReport` per engine block (a list with ``table()``)."""
         assembly = options.get("assembly")
@@ -512,6 +517,39 @@ class EnginePlugin:
             for t in engine_report(s, model).tables:
                 out.append((t.title, t))
         return out
+
+
+_WORDS = {"x": "motion along the crank", "y": "motion across the crank", "z": "bounce",
+          "rx": "roll about the crank", "ry": "pitch", "rz": "yaw"}
+
+
+def _label(model: Any, shape: np.ndarray, energy: np.ndarray) -> str | None:
+    total = float(np.sum(energy))
+    if model is None or getattr(model, "assembly", None) is None or total <= 0:
+        return None
+    for spec in engine_specs(model.assembly):
+        labels = [f"{spec.name}.{d}" for d in DOF_NAMES]
+        if not all(lab in model.dofs for lab in labels):
+            continue
+        idx = [model.dofs.index(lab) for lab in labels]
+        share = float(np.sum(np.asarray(energy)[idx])) / total
+        if share < 0.5:
+            continue
+        T = an.axes_transform(an.crank_aligned_axes(spec.crank_axis))
+        p = T @ np.asarray(shape, float)[idx]
+        Mp = T @ an.rigid_mass_matrix(spec.mass, spec.inertia) @ T.T
+        e = p * (Mp @ p)
+        if e.sum() <= 0:
+            continue
+        e = e / e.sum()
+        order = np.argsort(-e)
+        words = f"{spec.name} {_WORDS[an.DIRECTIONS[order[0]]]}"
+        if e[order[1]] > 0.2:
+            words += f" with {_WORDS[an.DIRECTIONS[order[1]]]}"
+        if share < 0.9:
+            words += " + vehicle motion"
+        return words
+    return None
 
 
 class _Reports(list):
