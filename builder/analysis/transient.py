@@ -484,13 +484,13 @@ def _mix_tracks(profiles: list[NDArray], dx: float, y: list[float],
         for b in range(T):
             if a != b:
                 gamma[:, a, b] = road.isotropic_coherence(n, y[a] - y[b], waviness)
-    vals, vecs = np.linalg.eigh(gamma)
-    factor = vecs * np.sqrt(np.clip(vals, 0.0, None))[:, None, :]
-    # lower-triangular factor where possible, so track 1 keeps its own profile
+    # lower-triangular factor (track 1 keeps its own profile); a symmetric square root
+    # where the coherence matrix is singular to round-off
     try:
         factor = np.linalg.cholesky(gamma + 1e-12 * np.eye(T)[None])
     except np.linalg.LinAlgError:
-        pass
+        vals, vecs = np.linalg.eigh(gamma)
+        factor = vecs * np.sqrt(np.clip(vals, 0.0, None))[:, None, :]
     mixed = np.einsum("nab,bn->an", factor, spectra)
     return [np.fft.irfft(m, count) for m in mixed]
 
