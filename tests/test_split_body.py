@@ -280,7 +280,8 @@ def test_sensors_and_links_stay_consistent_after_assembly():
 def test_labels_name_bending_and_torsion_in_the_analytic_order():
     # The free-free bar's elastic modes, labelled by the chain labeller, come in
     # the order of the analytic frequencies (Euler-Bernoulli bending in the two
-    # planes, beta L = 4.7300, 7.8532, 10.9956; free-free shaft torsion
+    # planes, beta L = 4.7300, 7.8532, 10.9956, 14.1372 (from memory, the roots of
+    # cos(bL) cosh(bL) = 1); free-free shaft torsion
     # n pi/L sqrt(GJ/rho Ip)).
     from plugins.split_body.labels import flexible_body_label
     from plugins.split_body.split import uniform_bar
@@ -288,16 +289,16 @@ def test_labels_name_bending_and_torsion_in_the_analytic_order():
     EIy, EIz, GJ = 4.0e4, 6.0e4, 30.0
     asm = uniform_bar(60, L, rho_a, rho_ip, {"EA": 1e9, "EIy": EIy, "EIz": EIz, "GJ": GJ})
     model = assemble(asm)
-    lam, x = lowest_modes(model.K, model.M, 14)
+    lam, x = lowest_modes(model.K, model.M, 18)
     expected = []
-    for order, bl in ((1, 4.7300), (2, 7.8532), (3, 10.9956)):
-        word = ("first", "second", "third")[order - 1]
+    for order, bl in ((1, 4.7300), (2, 7.8532), (3, 10.9956), (4, 14.1372)):
+        word = ("first", "second", "third", "fourth")[order - 1]
         expected.append((bl ** 2 * np.sqrt(EIy / (rho_a * L ** 4)), f"bar {word} vertical bending"))
         expected.append((bl ** 2 * np.sqrt(EIz / (rho_a * L ** 4)), f"bar {word} lateral bending"))
         expected.append((order * np.pi / L * np.sqrt(GJ / rho_ip), f"bar {word} torsion"))
-    expected = [label for _, label in sorted(expected)][:6]
+    expected = [label for _, label in sorted(expected)][:10]
     energy = x * (model.M @ x)
-    labels = [flexible_body_label(model, x[:, i], energy[:, i]) for i in range(6, 12)]
+    labels = [flexible_body_label(model, x[:, i], energy[:, i]) for i in range(6, 16)]
     assert labels == expected
     # The six rigid-body modes are named as motions of the bar as a whole.
     rigid = {flexible_body_label(model, x[:, i], energy[:, i]) for i in range(6)}
@@ -433,3 +434,22 @@ def test_flexible_body_modes_table():
                                rtol=1e-3, atol=1e-4)
     assert "body first torsion" in result.table()
     assert result.to_dict()["craig_bampton"]["dofs"] == result.reduced_dofs
+
+
+def test_command_line_on_the_flexible_demo(run_cli):
+    demo = ROOT / "assemblies" / "compact_car_flexible.yaml"
+    code, out, err = run_cli("modes", demo, "--json")
+    assert code == 0, err
+    import json
+    modes = json.loads(out)["modes"]
+    labels: dict[str, float] = {}
+    for m in modes:                                          # first mode of each label
+        labels.setdefault(m["label"], m["frequency_hz"])
+    assert 20 < labels["body first torsion"] < 40            # the demo's stated range
+    assert 20 < labels["body first vertical bending"] < 40
+    code, out, err = run_cli("plugin", "split_body", demo, "--craig-bampton", "12",
+                             "--count", "20")
+    assert code == 0, err
+    assert "* body first torsion" in out and "Craig-Bampton" in out
+    code, out, err = run_cli("plugin", "split_body", demo, "--count", "0")
+    assert code == 2 and "--count" in err and "\n" not in err.strip()

@@ -79,11 +79,31 @@ def _ordinal(n: int) -> str:
     return ORDINALS[n - 1] if 1 <= n <= len(ORDINALS) else f"{n}th"
 
 
-def _nodes(values: np.ndarray) -> int:
-    """Sign changes along the chain, ignoring values below 5 % of the largest."""
-    big = np.abs(values) >= 0.05 * np.abs(values).max()
+def _nodes(values: np.ndarray, floor: float = 0.05) -> int:
+    """Sign changes along the chain, ignoring values below ``floor`` of the largest."""
+    big = np.abs(values) >= floor * np.abs(values).max()
     signs = np.sign(values[big])
     return int(np.sum(signs[1:] != signs[:-1]))
+
+
+def _hermite(s: np.ndarray, w: np.ndarray, slope: np.ndarray, per: int = 16) -> np.ndarray:
+    """A deflection sampled along the chain by cubic Hermite interpolation of
+    the segment centres' deflections and slopes (so that a coarse chain's
+    higher bending shapes keep their nodes), extended to the chain's ends."""
+    # The end segments reach half a spacing beyond their centres: extend linearly.
+    d0, d1 = (s[1] - s[0]) / 2, (s[-1] - s[-2]) / 2
+    s = np.concatenate([[s[0] - d0], s, [s[-1] + d1]])
+    w = np.concatenate([[w[0] - d0 * slope[0]], w, [w[-1] + d1 * slope[-1]]])
+    slope = np.concatenate([[slope[0]], slope, [slope[-1]]])
+    t = np.linspace(0.0, 1.0, per, endpoint=False)
+    h00, h10 = 2 * t ** 3 - 3 * t ** 2 + 1, t ** 3 - 2 * t ** 2 + t
+    h01, h11 = -2 * t ** 3 + 3 * t ** 2, t ** 3 - t ** 2
+    out = []
+    for i in range(len(s) - 1):
+        d = s[i + 1] - s[i]
+        out.append(h00 * w[i] + h10 * d * slope[i] + h01 * w[i + 1] + h11 * d * slope[i + 1])
+    out.append(np.array([w[-1]]))
+    return np.concatenate(out)
 
 
 def flexible_body_label(model: Any, shape: np.ndarray, energy: np.ndarray) -> str | None:
@@ -178,6 +198,13 @@ def _chain_label(asm: Any, members: list[str], shape: np.ndarray, index: dict[st
     energies = {k: float(masses @ v ** 2) for k, v in parts.items() if k != "torsion"}
     energies["torsion"] = float(inertia_axis @ parts["torsion"] ** 2)
     kind = max(energies, key=energies.get)
-    nodes = _nodes(parts[kind])
+    if kind.endswith("bending"):
+        # slope of the deflection: w' = theta . (axis x vertical), v' = theta . (axis x lateral)
+        along = np.cross(axis, vertical if kind.startswith("vertical") else lateral)
+        s_pos = cgs @ axis
+        # The smooth interpolant keeps small end lobes: a low floor suffices.
+        nodes = _nodes(_hermite(s_pos, parts[kind], d[:, 3:] @ along), floor=1e-3)
+    else:
+        nodes = _nodes(parts[kind])
     order = max(1, nodes - 1) if kind.endswith("bending") else max(1, nodes)
     return f"{name} {_ordinal(order)} {kind}"

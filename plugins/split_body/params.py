@@ -32,33 +32,37 @@ plugins:
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass
-from typing import Any
 
 import numpy as np
 
 from builder.elements import parse_axis
 from builder.errors import InputError, Where
+from builder.plugin import Parameter
 from builder.quantities import Quantity
 from builder.yamlnodes import Node
 
 from .split import SECTION_KEYS, SectionTable, SplitSpec
 
-__all__ = ["PARAMETERS", "Parameter", "parse_split_spec"]
+__all__ = ["PARAMETERS", "SECTION_FIELDS", "MASS_FIELDS", "parse_split_spec"]
 
 _SECTION_DIMS = {"EA": "force", "EIy": "flexural_rigidity", "EIz": "flexural_rigidity",
                  "GJ": "flexural_rigidity", "shear_y": "force", "shear_z": "force"}
 
 
-@dataclass(frozen=True)
-class Parameter:
-    """One declared parameter: name, unit dimension (or kind), default, help."""
+SECTION_FIELDS: tuple[Parameter, ...] = (
+    Parameter("at", "length", None, "station along the axis, m"),
+    Parameter("EA", "force", None, "axial rigidity, N"),
+    Parameter("EIy", "flexural_rigidity", None, "bending rigidity about y, N m^2"),
+    Parameter("EIz", "flexural_rigidity", None, "bending rigidity about z, N m^2"),
+    Parameter("GJ", "flexural_rigidity", None, "torsional rigidity, N m^2"),
+    Parameter("shear_y", "force", None, "shear rigidity k G A along y, N"),
+    Parameter("shear_z", "force", None, "shear rigidity k G A along z, N"),
+)
 
-    name: str
-    dimension: str
-    default: Any
-    help: str
-
+MASS_FIELDS: tuple[Parameter, ...] = (
+    Parameter("at", "length", None, "station along the axis, m"),
+    Parameter("weight", "dimensionless", None, "relative mass per length"),
+)
 
 PARAMETERS: tuple[Parameter, ...] = (
     Parameter("body", "name", None, "the rigid body to split (required)"),
@@ -78,12 +82,12 @@ PARAMETERS: tuple[Parameter, ...] = (
     Parameter("GJ", "flexural_rigidity", None, "torsional rigidity, N m^2"),
     Parameter("shear_y", "force", None, "shear rigidity k G A along y, N (Timoshenko)"),
     Parameter("shear_z", "force", None, "shear rigidity k G A along z, N (Timoshenko)"),
-    Parameter("section_table", "table", None,
+    Parameter("section_table", "records", None,
               "section varying along the axis: rows {at, EA, EIy, EIz, GJ[, shear_y, "
-              "shear_z]}, linear between rows"),
+              "shear_z]}, linear between rows", SECTION_FIELDS),
     Parameter("mass", "choice", "uniform", "mass distribution: uniform or table"),
-    Parameter("mass_table", "table", None,
-              "relative mass per length: rows {at, weight}, linear between rows"),
+    Parameter("mass_table", "records", None,
+              "relative mass per length: rows {at, weight}, linear between rows", MASS_FIELDS),
     Parameter("frame_z", "direction", None, "section z axis (default global z)"),
     Parameter("loss_factor", "dimensionless", 0.0, "structural loss factor of the beams"),
 )

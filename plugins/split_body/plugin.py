@@ -10,11 +10,12 @@ body Craig-Bampton reduced) is :func:`plugins.split_body.analysis.flexible_body_
 
 from __future__ import annotations
 
+import argparse
 from collections.abc import Mapping
 from typing import Any
 
 from builder.assembly import Assembly
-from builder.errors import Where
+from builder.errors import InputError, Where
 from builder.quantities import Quantity
 from builder.yamlnodes import Node
 
@@ -41,10 +42,48 @@ class SplitBodyPlugin:
         """The new Assembly with the body split."""
         return split_body(assembly, spec)
 
+    def configure_cli(self, parser: argparse.ArgumentParser) -> None:
+        """Options of ``lumpgraph plugin split_body FILE``."""
+        parser.add_argument("--count", metavar="N", type=int, default=30,
+                            help="number of vehicle modes (default 30)")
+        parser.add_argument("--craig-bampton", metavar="MODES", type=int,
+                            help="also reduce the body to MODES fixed-interface modes "
+                                 "and compare")
+        parser.add_argument("--chain", metavar="NAME",
+                            help="the split body to analyse (default: the first)")
+
     def analyse(self, model: Any, **options: Any) -> Any:
-        """The flexible body's modes in the vehicle (a FlexibleBodyModes result)."""
+        """The flexible body's modes in the vehicle (a FlexibleBodyModes result).
+
+        Options: ``count``, ``craig_bampton`` (modes), ``chain``; a reduced
+        model (a depth) is analysed in full, since the body's own modes live
+        in the condensed DOFs.
+        """
+        from builder.reduce import full_model
+
         from .analysis import flexible_body_modes
-        return flexible_body_modes(model, **options)
+        count = options.get("count")
+        count = 30 if count is None else int(count)
+        cb = options.get("craig_bampton")
+        if count < 1 or (cb is not None and cb < 1):
+            raise InputError("--count and --craig-bampton must be positive whole numbers",
+                             Where(field="--count"))
+        return flexible_body_modes(full_model(model), chain=options.get("chain"),
+                                   count=count, craig_bampton_modes=cb)
+
+    def tables(self, assembly: Any, model: Any, **options: Any) -> list[tuple[str, Any]]:
+        """The flexible body's modes, for the report."""
+        from builder.plugin import Table
+        from builder.reduce import full_model
+
+        from .analysis import flexible_body_modes
+        result = flexible_body_modes(full_model(model), count=30)
+        rows = tuple((i + 1, float(f), lab, "yes" if el else "")
+                     for i, (f, lab, el) in enumerate(zip(result.frequencies_hz, result.labels,
+                                                          result.elastic)))
+        title = f"Flexible body {result.chain}: vehicle modes ({result.segments} segments)"
+        return [(title, Table(title, ("mode", "f (Hz)", "label", "body elastic"), rows,
+                              result.notes))]
 
     def label_mode(self, model: Any, shape: Any, energy: Any) -> str | None:
         """A label for modes in which a split body takes part (else None)."""
