@@ -46,6 +46,7 @@ These figures are screening estimates (see :data:`CAUTION`).
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
@@ -210,8 +211,10 @@ def _sample_interval(t: NDArray) -> float:
     return float(dt.mean())
 
 
+@functools.lru_cache(maxsize=64)
 def _bilinear_sos(par: WeightingParameters, fs: float) -> NDArray:
-    """Second-order sections of the weighting by the bilinear transform at rate ``fs``."""
+    """Second-order sections of the weighting by the bilinear transform at rate ``fs``
+    (cached: the same weighting at the same rate is designed once)."""
     from scipy import signal
 
     q_band = 1.0 / math.sqrt(2.0)
