@@ -14,7 +14,7 @@ so ``q = T [q_b; eta]`` with the transformation T of shape
 are ``T^T K T`` and ``T^T M T``. With no modes this is Guyan (static)
 condensation onto the boundary.
 
-K_ii is factorised once by a sparse LU (:func:`scipy.sparse.linalg.splu`);
+K_ii is factorised once by a sparse LU (:func:`builder.eigen.sparse_factor`);
 nothing of size n x n is ever made dense. The boundary must hold the
 component (K_ii non-singular), which it does whenever the boundary DOFs
 restrain its rigid-body motions, e.g. all six DOFs of one attachment body.
@@ -33,7 +33,7 @@ import numpy as np
 import scipy.sparse
 import scipy.sparse.linalg
 
-from .eigen import lowest_modes, natural_frequencies_hz
+from .eigen import lowest_modes, natural_frequencies_hz, sparse_factor
 from .errors import InputError
 
 #: A sparse LU pivot this small relative to the largest marks K_ii as singular
@@ -110,7 +110,7 @@ def craig_bampton(K, M, boundary, n_modes: int) -> CraigBamptonResult:
     psi = np.zeros((i.size, b.size))
     if i.size:
         try:
-            lu = scipy.sparse.linalg.splu(k_ii)
+            lu = sparse_factor(k_ii)
         except RuntimeError as exc:
             raise InputError("the boundary DOFs do not hold the component: its interior "
                              "stiffness is singular") from exc

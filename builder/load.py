@@ -45,7 +45,7 @@ from .quantities import Quantity, resolve_parameters
 from .yamlnodes import Node, load_yaml, parse_yaml
 
 __all__ = ["load_assembly", "load_text", "parse_assembly", "check_depths", "MEASURES",
-           "match_dofs"]
+           "match_dofs", "parse_inertia"]
 
 TOP_KEYS = ("format", "name", "motion", "parameters", "bodies", "road", "links", "sensors",
             "plugins", "depths")
@@ -127,8 +127,9 @@ def _parameters(node: Node | None, overrides: Mapping[str, object] | None,
     return resolve_parameters(raw, lambda k: places.get(k, Where(source)))
 
 
-def _inertia(fields: dict[str, Node], mass: float, where: Where,
-             params: Mapping[str, Quantity]) -> np.ndarray:
+def parse_inertia(fields: dict[str, Node], mass: float, where: Where,
+                  params: Mapping[str, Quantity]) -> np.ndarray:
+    """The inertia tensor (kg m^2) of a mapping with ``inertia`` or ``gyradius``, checked."""
     if "inertia" in fields and "gyradius" in fields:
         raise InputError("give either inertia or gyradius, not both", where.child("gyradius"))
     if "inertia" in fields:
@@ -189,7 +190,7 @@ def _bodies(node: Node, default_dofs: tuple[str, ...],
         f = bnode.mapping(BODY_KEYS, required=("mass", "cg"))
         mass = f["mass"].quantity("mass", params, "positive")
         cg = np.array(f["cg"].vector("length", params))
-        inertia = _inertia(f, mass, where, params)
+        inertia = parse_inertia(f, mass, where, params)
         dofs = _dofs(f["dofs"]) if "dofs" in f else default_dofs
         shape = _shape(f["shape"], params) if "shape" in f else None
         out[name] = Body(name, mass, cg, inertia, dofs, shape, where)

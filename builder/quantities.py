@@ -162,6 +162,11 @@ def _dim_text(dim: Dim) -> str:
     return " ".join(parts) if parts else "a plain number"
 
 
+def dimension_text(dim: Dim) -> str:
+    """How a dimension is named in messages, e.g. "a stiffness"."""
+    return _dim_text(dim)
+
+
 def dimension_noun(dimension: str) -> str:
     """The noun used in messages for a named dimension (``"stiffness"``)."""
     return DIMENSIONS[dimension][1]

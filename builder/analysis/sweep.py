@@ -926,7 +926,8 @@ def file_parameters(path: str | os.PathLike[str]) -> dict[str, Any]:
 
 def _check_names(params: Mapping[str, Any], names: Sequence[str],
                  dims: Sequence[tuple[int, int, int]] = ()) -> None:
-    from ..quantities import NONE, _dim_text
+    from ..quantities import NONE
+    from ..quantities import dimension_text as _dim_text
     for i, n in enumerate(names):
         if n not in params:
             import difflib

@@ -18,11 +18,13 @@ from ..quantities import Quantity
 from ..yamlnodes import Node
 from . import ElementMatrices, parse_frame, register_link_type
 
-__all__ = ["Bushing", "bushing_props", "COMPONENTS"]
+__all__ = ["Bushing", "bushing_props", "parse_six", "COMPONENTS", "STIFFNESS_DIMS",
+           "DAMPING_DIMS"]
 
 COMPONENTS = ("x", "y", "z", "rx", "ry", "rz")
-_DIMS = ("stiffness",) * 3 + ("rotational_stiffness",) * 3
-_DAMP = ("damping",) * 3 + ("rotational_damping",) * 3
+#: Dimensions of the six stiffness and damping components (x, y, z, rx, ry, rz).
+STIFFNESS_DIMS = ("stiffness",) * 3 + ("rotational_stiffness",) * 3
+DAMPING_DIMS = ("damping",) * 3 + ("rotational_damping",) * 3
 
 
 def bushing_props(frame: np.ndarray, stiffness: np.ndarray, damping: np.ndarray | None = None,
@@ -35,7 +37,8 @@ def bushing_props(frame: np.ndarray, stiffness: np.ndarray, damping: np.ndarray 
             "loss_factor": float(loss_factor)}
 
 
-def _six(node: Node, dims: tuple[str, ...], parameters: Mapping[str, Quantity]) -> np.ndarray:
+def parse_six(node: Node, dims: tuple[str, ...], parameters: Mapping[str, Quantity]) -> np.ndarray:
+    """Six components {x, y, z, rx, ry, rz} of a mapping (missing: 0), non-negative, SI."""
     f = node.mapping(COMPONENTS)
     return np.array([f[c].quantity(d, parameters, "nonnegative") if c in f else 0.0
                      for c, d in zip(COMPONENTS, dims)])
@@ -49,8 +52,9 @@ class Bushing:
     def parse(self, fields: dict[str, Node], a: Any, b: Any,
               parameters: Mapping[str, Quantity], where: Where) -> dict[str, Any]:
         frame = parse_frame(fields.get("frame"), parameters)
-        k = _six(fields["stiffness"], _DIMS, parameters)
-        c = _six(fields["damping"], _DAMP, parameters) if "damping" in fields else np.zeros(6)
+        k = parse_six(fields["stiffness"], STIFFNESS_DIMS, parameters)
+        c = parse_six(fields["damping"], DAMPING_DIMS, parameters) if "damping" in fields \
+            else np.zeros(6)
         eta = fields["loss_factor"].quantity("dimensionless", parameters, "nonnegative") \
             if "loss_factor" in fields else 0.0
         props = bushing_props(frame, k, c, eta)

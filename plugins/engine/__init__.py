@@ -118,7 +118,9 @@ class EngineSpec:
 
 def _mount(node: Any, i: int, attach: str, parameters: Mapping[str, Any]) -> an.Mount:
     from builder.elements import parse_frame
-    from builder.elements.bushing import _DAMP, _DIMS, _six
+    from builder.elements.bushing import DAMPING_DIMS as _DAMP
+    from builder.elements.bushing import STIFFNESS_DIMS as _DIMS
+    from builder.elements.bushing import parse_six as _six
 
     f = node.mapping([p.name for p in MOUNT_FIELDS], required=("name", "at", "stiffness"),
                      what="a mount {name, at, stiffness, ...}")
@@ -140,7 +142,7 @@ def _mount(node: Any, i: int, attach: str, parameters: Mapping[str, Any]) -> an.
 def parse_engine_spec(fields: Mapping[str, Any], name: str, parameters: Mapping[str, Any],
                       where: Where) -> EngineSpec:
     """A validated :class:`EngineSpec` from a ``with:`` block (field name -> Node)."""
-    from builder.load import _inertia
+    from builder.load import parse_inertia as _inertia
 
     for key in ("mass", "cg", "mounts"):
         if key not in fields:
