@@ -145,7 +145,7 @@ def parse_frame(node: Node | None, parameters: Mapping[str, Quantity]) -> np.nda
 
 
 def _register_builtins() -> None:
-    from . import bushing, rigid, spring  # noqa: F401  (they register themselves)
+    from . import beam, bushing, rigid, spring  # noqa: F401  (they register themselves)
 
 
 _register_builtins()
