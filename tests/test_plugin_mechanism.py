@@ -5,8 +5,6 @@ The temporary package is a real distribution on sys.path (a module plus a
 importlib.metadata exactly as an installed package would be.
 """
 
-import sys
-import textwrap
 
 import numpy as np
 import pytest
@@ -59,25 +57,10 @@ BROKEN_IMPORT = "raise ImportError('this plugin needs a library that is not inst
 BAD_DECLARATION = "class P:\n    name = 'bad one'\n\nPLUGIN = P()\n"
 
 
-def make_dist(root, module: str, source: str, entry: str) -> None:
-    (root / f"{module}.py").write_text(textwrap.dedent(source))
-    info = root / f"{module}-1.0.dist-info"
-    info.mkdir()
-    (info / "METADATA").write_text(f"Metadata-Version: 2.1\nName: {module}\nVersion: 1.0\n")
-    (info / "entry_points.txt").write_text(f"[lumpgraph.plugins]\n{entry} = {module}:PLUGIN\n")
-
-
 @pytest.fixture
-def third_party(tmp_path, monkeypatch):
-    make_dist(tmp_path, "lg_absorber", GOOD_PLUGIN, "absorber")
-    make_dist(tmp_path, "lg_broken", BROKEN_IMPORT, "broken")
-    make_dist(tmp_path, "lg_bad", BAD_DECLARATION, "bad")
-    monkeypatch.syspath_prepend(str(tmp_path))
-    plugin_mod.clear_cache()
-    yield tmp_path
-    plugin_mod.clear_cache()
-    for m in ("lg_absorber", "lg_broken", "lg_bad"):
-        sys.modules.pop(m, None)
+def third_party(install_plugins):
+    return install_plugins(absorber=("lg_absorber", GOOD_PLUGIN),
+                           broken=("lg_broken", BROKEN_IMPORT), bad=("lg_bad", BAD_DECLARATION))
 
 
 CAR = """

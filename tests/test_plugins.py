@@ -10,13 +10,10 @@ badly by name while the others keep working.
 """
 
 import json
-import sys
-import textwrap
 
 import numpy as np
 import pytest
 
-from builder import plugin as plugin_mod
 from builder.analysis.modes import compute_modes
 from builder.linear import assemble
 from builder.load import load_text
@@ -78,24 +75,9 @@ PLUGIN = P()
 '''
 
 
-def make_dist(root, module: str, source: str, entry: str) -> None:
-    (root / f"{module}.py").write_text(textwrap.dedent(source))
-    info = root / f"{module}-1.0.dist-info"
-    info.mkdir()
-    (info / "METADATA").write_text(f"Metadata-Version: 2.1\nName: {module}\nVersion: 1.0\n")
-    (info / "entry_points.txt").write_text(f"[lumpgraph.plugins]\n{entry} = {module}:PLUGIN\n")
-
-
 @pytest.fixture
-def installed(tmp_path, monkeypatch):
-    make_dist(tmp_path, "lg_pads", PADS, "pads")
-    make_dist(tmp_path, "lg_twice", BAD_FIELDS, "twice")
-    monkeypatch.syspath_prepend(str(tmp_path))
-    plugin_mod.clear_cache()
-    yield tmp_path
-    plugin_mod.clear_cache()
-    for m in ("lg_pads", "lg_twice"):
-        sys.modules.pop(m, None)
+def installed(install_plugins):
+    return install_plugins(pads=("lg_pads", PADS), twice=("lg_twice", BAD_FIELDS))
 
 
 FILE = """
