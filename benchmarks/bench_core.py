@@ -80,7 +80,8 @@ def main() -> int:
     dt = time.perf_counter() - t
     path = "sparse shift-invert" if model.n > DENSE_LIMIT else "dense"
     print(f"   lowest 20 modes of {model.n} DOFs: {dt:.2f} s by the {path} path; "
-          f"f1 = {modes[0].frequency_hz:.4f} Hz")
+          f"f20 = {modes[19].frequency_hz:.4f} Hz (a 400 m chain: its lowest modes are "
+          "far below 0.01 Hz and count as zero-frequency)")
     return 0
 
 
