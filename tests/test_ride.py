@@ -269,22 +269,21 @@ def test_full_car_rms_against_time_domain_simulation(tmp_path, tracks):
             result.sensors[name].rms, rel=0.04), name
 
 
-@pytest.mark.parametrize("dense_limit", [300, 0])
-def test_own_frequency_response_against_python_control(tmp_path, monkeypatch, dense_limit):
+@pytest.mark.parametrize("method", ["direct", "sparse"])
+def test_road_frequency_response_against_python_control(tmp_path, method):
     # Independent library: python-control evaluates the model's state-space form
     # (input [r; r']) at s = i w; the road FRF is G_r + i w G_v. Both the batched
-    # dense solve and the sparse per-frequency path (dense_limit 0) are checked.
+    # dense solve and the sparse per-frequency path are checked.
     import control
 
-    from builder.analysis import ride
+    from builder.analysis.frf import frequency_response
 
-    monkeypatch.setattr(ride, "_DENSE_LIMIT", dense_limit)
     model = assemble(load_assembly(_write(tmp_path, HALF)))
     f = np.array([0.7, 1.3, 6.0, 11.0, 45.0])
     A, B, C, D = model.to_state_space()
     system = control.ss(A, B, C, D)
     nr = len(model.inputs)
-    ours = ride._own_frequency_response(model, f)
+    ours = frequency_response(model, f, method=method).H
     for i, fi in enumerate(f):
         w = 2 * np.pi * fi
         g = np.asarray(system(1j * w))
@@ -312,10 +311,10 @@ sensors:
     model = assemble(load_assembly(_write(tmp_path, text)))
     f = np.array([0.5, 2.0, 3.18, 5.0, 12.0])
     r = f / (math.sqrt(k / m) / (2 * math.pi))
-    from builder.analysis.ride import _own_frequency_response
+    from builder.analysis.frf import frequency_response
 
     expected = (1 + eta**2) / ((1 - r**2) ** 2 + eta**2)
-    for h in (road_frequency_response(model, f), _own_frequency_response(model, f)):
+    for h in (road_frequency_response(model, f), frequency_response(model, f, method="sparse").H):
         np.testing.assert_allclose(np.abs(h[:, 0, 0]) ** 2, expected, rtol=1e-9)
 
 

@@ -59,7 +59,6 @@ DEFAULT_BAND = (0.5, 80.0)
 #: Default number of log-spaced frequencies.
 DEFAULT_POINTS = 2000
 
-_DENSE_LIMIT = 300  # DOFs up to which the frequency loop is one batched dense solve
 _DIRECTIONS = ("x", "y", "z", "rx", "ry", "rz")
 
 
@@ -79,54 +78,11 @@ def _dense(a: Any) -> NDArray:
     return a.toarray() if hasattr(a, "toarray") else np.asarray(a, dtype=float)
 
 
-def _own_frequency_response(model: Any, f: NDArray) -> NDArray[np.complex128]:
-    """H (nf, ns, nr) from road displacement to the sensors by a direct solve."""
-    n, nr = model.n, len(model.inputs)
-    w = 2 * np.pi * f
-    ns = len(model.sensors)
-    if n == 0:
-        raise InputError("the model has no degrees of freedom", Where(field="--depth"))
-    Bh = getattr(model, "Bh", None)
-    Sh = getattr(model, "Sh", None)
-    Dh = getattr(model, "Dh", None)
-    B0 = _dense(model.Br) + (1j * _dense(Bh) if Bh is not None else 0.0)
-    Bv = _dense(model.Bv)
-    S0 = _dense(model.Sd) + (1j * _dense(Sh) if Sh is not None else 0.0)
-    Sv, Sa = _dense(model.Sv), _dense(model.Sa)
-    D0 = _dense(model.Dr) + (1j * _dense(Dh) if Dh is not None else 0.0)
-    Dv = _dense(model.Dv)
-    if n <= _DENSE_LIMIT:
-        K = _dense(model.K) + 1j * _dense(model.H)
-        M, C = _dense(model.M), _dense(model.C)
-        out = np.empty((f.size, ns, nr), dtype=complex)
-        chunk = max(1, int(2e7 // (n * n * 16 + 1)))
-        for start in range(0, f.size, chunk):
-            ww = w[start:start + chunk, None, None]
-            dyn = K[None] - ww**2 * M[None] + 1j * ww * C[None]
-            rhs = B0[None] + 1j * ww * Bv[None]
-            q = np.linalg.solve(dyn, rhs)
-            obs = S0[None] + 1j * ww * Sv[None] - ww**2 * Sa[None]
-            out[start:start + chunk] = obs @ q + D0[None] + 1j * ww * Dv[None]
-        return out
-    import scipy.sparse as sp
-    from scipy.sparse.linalg import splu
-
-    K = sp.csc_matrix(model.K + 1j * model.H)
-    M, C = sp.csc_matrix(model.M), sp.csc_matrix(model.C)
-    out = np.empty((f.size, ns, nr), dtype=complex)
-    for i, wi in enumerate(w):
-        q = splu((K - wi**2 * M + 1j * wi * C).tocsc()).solve(B0 + 1j * wi * Bv)
-        out[i] = (S0 + 1j * wi * Sv - wi**2 * Sa) @ q + D0 + 1j * wi * Dv
-    return out
-
-
 def road_frequency_response(model: Any, frequency_hz: ArrayLike) -> NDArray[np.complex128]:
     """Complex H (nf, ns, nr) from the road inputs (m) to every sensor (its unit per m)."""
+    from .frf import frequency_response
+
     f = np.asarray(frequency_hz, dtype=float).reshape(-1)
-    try:
-        from .frf import frequency_response
-    except ImportError:
-        return _own_frequency_response(model, f)
     fr = frequency_response(model, f)
     H = np.asarray(fr.H)
     sensors, inputs = tuple(fr.sensors), tuple(fr.inputs)
