@@ -24,27 +24,17 @@ the sensors ``driver_seat_z``, ``driver_seat_x``, ``driver_floor_z``,
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass, fields
+from dataclasses import fields
 from typing import Any
 
 from builder.errors import InputError, Where
+from builder.plugin import Parameter
 from builder.quantities import to_si
 
 from .build import SeatSpec, add_seat
 from .occupants import OCCUPANT_MODELS
 
 __all__ = ["PARAMETERS", "Parameter", "SeatPlugin", "PLUGIN", "parse_seat_spec", "seat_specs"]
-
-
-@dataclass(frozen=True)
-class Parameter:
-    """One ``with:`` field: name, dimension (or kind: name, choice, points), SI default
-    (None: required) and help."""
-
-    name: str
-    dimension: str
-    default: Any
-    help: str
 
 
 _D = {f.name: f.default for f in fields(SeatSpec)}
