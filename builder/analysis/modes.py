@@ -128,12 +128,18 @@ def mac(a: np.ndarray, b: np.ndarray) -> float:
     return float(num / den) if den > 0 else 0.0
 
 
-def mac_matrix(A: np.ndarray, B: np.ndarray) -> np.ndarray:
-    """MAC between every column of A and every column of B."""
-    num = np.abs(A.conj().T @ B) ** 2
-    den = np.outer(np.real(np.sum(A.conj() * A, 0)), np.real(np.sum(B.conj() * B, 0)))
+def mac_matrix(A: np.ndarray, B: np.ndarray, mass: np.ndarray | None = None) -> np.ndarray:
+    """MAC between every column of A (n, ma) and every column of B (n, mb), real or
+    complex: |a^H W b|^2 / ((a^H W a)(b^H W b)) in [0, 1], W = ``mass`` or I."""
+    A = np.asarray(A)
+    B = np.asarray(B)
+    WA = A if mass is None else np.asarray(mass @ A)
+    WB = B if mass is None else np.asarray(mass @ B)
+    num = np.abs(A.conj().T @ WB) ** 2
+    den = np.outer(np.real(np.sum(A.conj() * WA, 0)), np.real(np.sum(B.conj() * WB, 0)))
     with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(den > 0, num / den, 0.0)
+        out = np.where(den > 0, num / np.where(den > 0, den, 1.0), 0.0)
+    return np.clip(out, 0.0, 1.0)
 
 
 def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:

@@ -26,25 +26,9 @@ from collections.abc import Sequence
 import numpy as np
 from scipy.optimize import linear_sum_assignment
 
+from .modes import mac_matrix
+
 __all__ = ["mac_matrix", "match_modes", "track_modes", "apply_tracking", "batch_match"]
-
-
-def mac_matrix(a: np.ndarray, b: np.ndarray, mass: np.ndarray | None = None) -> np.ndarray:
-    """MAC between the columns of ``a`` (n, ma) and ``b`` (n, mb): (ma, mb) in [0, 1].
-
-    ``mass`` (n, n) weights the inner product; None uses the identity.
-    """
-    a = np.asarray(a, dtype=float)
-    b = np.asarray(b, dtype=float)
-    wb = b if mass is None else np.asarray(mass @ b)
-    wa = a if mass is None else np.asarray(mass @ a)
-    cross = a.T @ wb
-    na = np.einsum("ij,ij->j", a, wa)
-    nb = np.einsum("ij,ij->j", b, wb)
-    denom = np.outer(na, nb)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        mac = np.where(denom > 0, cross**2 / np.where(denom > 0, denom, 1.0), 0.0)
-    return np.clip(mac, 0.0, 1.0)
 
 
 def _assign(mac: np.ndarray, complete: bool) -> np.ndarray:
