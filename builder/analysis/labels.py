@@ -17,8 +17,10 @@ from ..linear import LinearModel
 
 __all__ = ["LabelContext", "label_mode", "plugin_label"]
 
+
 _WORDS = {"x": "fore-aft", "y": "lateral", "z": "bounce", "rx": "roll", "ry": "pitch",
           "rz": "yaw"}
+
 
 def plugin_label(model: LinearModel, shape: np.ndarray, energy: np.ndarray) -> str | None:
     """A label from the first applied plugin that has words for this mode."""
