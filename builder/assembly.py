@@ -102,7 +102,10 @@ class Sensor:
     6-vector over the point's [x, y, z, rx, ry, rz] motion) or ``"link"``
     (``target`` a link, ``component`` the index of the link's deflection
     component). ``measure`` is displacement, velocity, acceleration,
-    deflection or force.
+    deflection or force. ``person`` names the ISO 2631-1 interface of a
+    person the sensor is at (``seat``, ``back``, ``feet``, ``floor``; ""
+    for none), ``place`` a name that groups the sensors of one person's
+    interface (e.g. a seat's name).
     """
 
     name: str
@@ -114,6 +117,8 @@ class Sensor:
     component: int = 0
     axis_name: str = ""
     where: Where = field(default_factory=Where)
+    person: str = ""
+    place: str = ""
 
 
 @dataclass(frozen=True, eq=False)

@@ -140,11 +140,12 @@ def _end(node: str, at: np.ndarray) -> End:
     return End(node, np.asarray(at, dtype=float).copy())
 
 
-def _accel(name: str, body: str, at: np.ndarray, axis: str, where: Where) -> Sensor:
+def _accel(name: str, body: str, at: np.ndarray, axis: str, where: Where,
+           person: str = "", place: str = "") -> Sensor:
     direction = np.zeros(6)
     direction["xyz".index(axis)] = 1.0
     return Sensor(name, "body", body, "acceleration", at=np.asarray(at, dtype=float).copy(),
-                  direction=direction, axis_name=axis, where=where)
+                  direction=direction, axis_name=axis, where=where, person=person, place=place)
 
 
 def add_seat(assembly: Assembly, spec: SeatSpec, where: Where | None = None) -> Assembly:
@@ -215,8 +216,11 @@ def add_seat(assembly: Assembly, spec: SeatSpec, where: Where | None = None) -> 
         links[link_name] = Link(link_name, "spring", _end(lower, at), _end(upper, at),
                                 spring_props(_Z, c.stiffness, c.damping), where)
 
-    sensors[names.seat_z] = _accel(names.seat_z, names.surface, top, "z", where)
-    sensors[names.seat_x] = _accel(names.seat_x, names.occupant_x, occupant_cg, "x", where)
+    # the seat surface is where ISO 2631-1 rates the seated occupant (person "seat")
+    place = f"{spec.name} seat"
+    sensors[names.seat_z] = _accel(names.seat_z, names.surface, top, "z", where, "seat", place)
+    sensors[names.seat_x] = _accel(names.seat_x, names.occupant_x, occupant_cg, "x", where,
+                                   "seat", place)
     sensors[names.floor_z] = _accel(names.floor_z, spec.body, floor, "z", where)
     sensors[names.floor_x] = _accel(names.floor_x, spec.body, floor, "x", where)
     if names.head_z:
