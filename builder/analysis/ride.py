@@ -573,6 +573,7 @@ def _undamped(model: Any, response: _Response, names: list[str], spectrum: Any,
         return
     omega, phi = _real_modes(model, response)
     drop = np.zeros((len(names), poles.size), dtype=bool)
+    problems: list[tuple[float, Any, float, list[str]]] = []
     for k in suspects:
         w = float(poles[k].imag)
         j = int(np.argmin(np.abs(omega - w)))
@@ -594,24 +595,31 @@ def _undamped(model: Any, response: _Response, names: list[str], spectrum: Any,
             decoupled = [s for s in range(len(names)) if s not in coupled]
             drop[np.ix_(decoupled, [k, *twins])] = True
         if coupled:
-            _refuse(model, phi[:, j] if abs(omega[j] - w) <= 1e-3 * w else None,
-                    w, float(zeta[k]), [names[s] for s in coupled], where)
+            problems.append((w, phi[:, j] if abs(omega[j] - w) <= 1e-3 * w else None,
+                             float(zeta[k]), [names[s] for s in coupled]))
+    if problems:
+        _refuse(model, sorted(problems, key=lambda x: x[0]), len(names), where)
     response.drop = drop
 
 
-def _refuse(model: Any, shape: NDArray | None, w: float, zeta: float, sensors: list[str],
+def _refuse(model: Any, problems: list[tuple[float, Any, float, list[str]]], count: int,
             where: Where) -> None:
+    """InputError naming the lowest undamped mode the road drives, and how to fix it."""
+    w, shape, zeta, sensors = problems[0]
     what, links = _describe_mode(model, shape) if shape is not None else ("", [])
     mode = f"the mode at {w / (2 * math.pi):.4g} Hz" + (f" (mostly {what})" if what else "")
-    damping = "no damping" if zeta <= 0 else (
-        f"a damping ratio of {zeta:.1g}, below {ZETA_FLOOR:g}, so in effect none")
+    damping = "no damping" if zeta < 1e-12 else (
+        f"a damping ratio of {zeta:.1g}, below {ZETA_FLOOR:g}: in effect none")
     shown = ", ".join(sensors[:4]) + (f" and {len(sensors) - 4} more" if len(sensors) > 4 else "")
     fix = (f"give the links it deforms most ({', '.join(n for n, _ in links)}) damping or a "
            "loss_factor" if links else "give its links damping or a loss_factor")
+    others = len({round(p[0] / (2 * math.pi), 6) for p in problems[1:]})
+    more = f" ({others} more undamped mode{'s' if others > 1 else ''} too)" if others else ""
+    every = {s for p in problems for s in p[3]}
+    leave = ", or leave those sensors out with --sensor" if len(every) < count else ""
     place = links[0][1] if links and links[0][1] is not None else where
     raise InputError(f"the RMS response to a random road is infinite: {mode} has {damping} "
-                     f"and the road drives it into {shown}; {fix}, or leave those sensors "
-                     "out with --sensor", place)
+                     f"and the road drives it into {shown}{more}; {fix}{leave}", place)
 
 
 # ------------------------------------------------------------ integration --
