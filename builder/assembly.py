@@ -147,10 +147,29 @@ class Assembly:
     plugins: tuple[Any, ...] = ()
     source: str = ""
     warnings: tuple[str, ...] = ()
+    replaced: dict[str, Any] = field(default_factory=dict)
 
     def replace(self, **changes: Any) -> Assembly:
         """A new Assembly with some fields changed."""
         return replace(self, **changes)
+
+    def body_at(self, name: str, point: Any) -> str | None:
+        """The body that carries ``point`` (m) for a body ``name`` as a file wrote it.
+
+        The body itself when it exists; when a plugin replaced it (``replaced``
+        maps its name to an object whose ``body_at(point)`` names the part
+        holding the point, e.g. the segment of a split body), that part,
+        followed through further replacements. None for an unknown name. So a
+        plugin that refers to a body works whichever plugin ran first.
+        """
+        seen: set[str] = set()
+        while name not in self.bodies:
+            part = self.replaced.get(name)
+            if part is None or name in seen:
+                return None
+            seen.add(name)
+            name = part.body_at(np.asarray(point, dtype=float))
+        return name
 
     @property
     def dof_labels(self) -> tuple[str, ...]:
