@@ -73,7 +73,7 @@ __all__ = [
 #: Default analysis band (Hz): that of the ISO 2631-1 comfort weightings.
 DEFAULT_BAND = (0.5, 80.0)
 #: Default number of log-spaced frequencies (the grid adds clusters at the modes).
-DEFAULT_POINTS = 2000
+DEFAULT_POINTS = 400
 #: Default relative tolerance on every variance (0.05 % on an RMS).
 DEFAULT_RTOL = 1e-3
 #: A mode with a damping ratio below this counts as undamped: no vehicle
@@ -86,6 +86,35 @@ _CHUNK = 2048               # frequencies per evaluation block (bounded memory)
 _MAX_POINTS = 100_000       # refinement budget, dense models
 _SPARSE_FACTOR = 3          # refinement budget of sparse models: this times the start
 _COUPLED = 1e-8             # a cosine below this: the road or the sensor misses a mode
+
+
+_ONE_THREAD_DOFS = 600      # dense problems up to this size run on one BLAS thread
+_CONTROLLER: list[Any] = []
+
+
+def _blas_threads(n: int) -> Any:
+    """A context with one BLAS thread for a small dense model (n DOFs, 2n states).
+
+    On a small shared machine a threaded BLAS spends more time handing over
+    between threads than it gains on a 2n x 2n eigensolve of a few hundred
+    states, and its time swings by several times with the load (measured:
+    0.1 s on one thread, 0.6 to 2 s threaded, for n = 81); with one thread
+    the time is steady. Uses threadpoolctl when installed, else leaves the
+    setting alone.
+    """
+    from contextlib import nullcontext
+
+    if n > _ONE_THREAD_DOFS:
+        return nullcontext()
+    if not _CONTROLLER:
+        try:
+            from threadpoolctl import ThreadpoolController
+        except ImportError:                                   # pragma: no cover
+            _CONTROLLER.append(None)
+        else:
+            _CONTROLLER.append(ThreadpoolController())
+    controller = _CONTROLLER[0]
+    return nullcontext() if controller is None else controller.limit(limits=1)
 
 
 def frequency_grid(band: Sequence[float] = DEFAULT_BAND, points: int = DEFAULT_POINTS,
@@ -125,8 +154,23 @@ def road_frequency_response(model: Any, frequency_hz: ArrayLike) -> NDArray[np.c
 
 
 def response_psd(H: NDArray, road_spectrum: NDArray) -> NDArray[np.float64]:
-    """Diagonal of ``H S_r H^H``: one-sided PSD (nf, ns) of every sensor."""
-    return np.einsum("fsi,fij,fsj->fs", H, road_spectrum, np.conj(H)).real.clip(min=0.0)
+    """Diagonal of ``H S_r H^H``: one-sided PSD (nf, ns) of every sensor.
+
+    ``S_r`` (nf, nr, nr) is Hermitian, so the sum runs over its diagonal and
+    upper triangle: ``sum_i |H_i|^2 S_ii + 2 sum_(i<j) Re(H_i conj(H_j) S_ij)``.
+    """
+    H = np.asarray(H)
+    S = np.asarray(road_spectrum)
+    nf, ns, nr = H.shape
+    out = np.zeros((nf, ns))
+    columns = [np.ascontiguousarray(H[:, :, i]) for i in range(nr)]
+    for i, hi in enumerate(columns):
+        out += (hi.real**2 + hi.imag**2) * S[:, i, i].real[:, None]
+        for j in range(i + 1, nr):
+            x = hi * np.conj(columns[j])
+            sij = S[:, i, j]
+            out += 2.0 * (x.real * sij.real[:, None] - x.imag * sij.imag[:, None])
+    return out.clip(min=0.0)
 
 
 def sensor_weighting(sensor: Any) -> str:
@@ -627,6 +671,9 @@ def _refuse(model: Any, problems: list[tuple[float, Any, float, list[str]]], cou
 def _integrand(response: _Response, spectrum: Any, weightings: list[tuple[int, str]]) -> Any:
     """f -> (y, g): sensor PSDs and weighted PSDs (nf, ns + na), and their incoherent
     sums (the scale that round-off cannot cancel)."""
+    names = sorted({name for _, name in weightings})
+    cols = [i for i, _ in weightings]
+
     def evaluate(f: NDArray) -> tuple[NDArray, NDArray]:
         ys, gs = [], []
         for a in range(0, f.size, _CHUNK):
@@ -634,11 +681,11 @@ def _integrand(response: _Response, spectrum: Any, weightings: list[tuple[int, s
             H = response(fc)
             S = spectrum(fc)
             psd = response_psd(H, S)
-            inc = np.einsum("fsi,fii->fs", np.abs(H) ** 2, np.abs(S))
-            w2 = np.column_stack([comfort.weighting_magnitude(name, fc) ** 2
-                                  for _, name in weightings]) if weightings else \
-                np.zeros((fc.size, 0))
-            cols = [i for i, _ in weightings]
+            inc = np.einsum("fsi,fi->fs", H.real**2 + H.imag**2,
+                            np.abs(np.diagonal(S, axis1=1, axis2=2)))
+            square = {name: comfort.weighting_magnitude(name, fc) ** 2 for name in names}
+            w2 = np.column_stack([square[name] for _, name in weightings]) if weightings \
+                else np.zeros((fc.size, 0))
             ys.append(np.hstack([psd, psd[:, cols] * w2]))
             gs.append(np.hstack([inc, inc[:, cols] * w2]))
         return np.vstack(ys), np.vstack(gs)
@@ -711,6 +758,16 @@ def ride_response(model: Any, road_class: str, speed_m_s: float, *, waviness: fl
     def spectrum(f: NDArray) -> NDArray:
         return road.road_cross_spectrum(f, v, positions, road_class, tracks, waviness)
 
+    with _blas_threads(model.n):
+        return _ride(model, asm, names, spectrum, (fmin, fmax), points, frequency_hz,
+                     (road_class, v, float(waviness), tracks), rtol)
+
+
+def _ride(model: Any, asm: Any, names: list[str], spectrum: Any, band: tuple[float, float],
+          points: int, frequency_hz: ArrayLike | None, case: tuple[str, float, float, str],
+          rtol: float) -> RideResult:
+    """The response, the grid, the integrals and the result (see :func:`ride_response`)."""
+    fmin, fmax = band
     response = _Response.of(model, names, (fmin, fmax))
     where = Where(file=getattr(asm, "source", "") or "", field="ride")
     _undamped(model, response, names, spectrum, where)
@@ -731,8 +788,8 @@ def ride_response(model: Any, road_class: str, speed_m_s: float, *, waviness: fl
     budget = _MAX_POINTS if response.method != "sparse" else _SPARSE_FACTOR * start.size
     result = adaptive_trapezoid(_integrand(response, spectrum, weightings), start, rtol=rtol,
                                 max_points=max(budget, start.size + 2))
-    return _result(model, asm, names, index, infos, weightings, result, response,
-                   (road_class, v, float(waviness), tracks), log_points, rtol)
+    return _result(model, asm, names, index, infos, weightings, result, response, case,
+                   log_points, rtol)
 
 
 def _result(model: Any, asm: Any, names: list[str], index: dict[str, int],
