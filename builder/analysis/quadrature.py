@@ -14,7 +14,12 @@ and twice their sum is the stated error of the whole integral: the sum is
 an upper bound of the global Richardson estimate ``|T_h - T_2h| / 3`` (in
 which errors of opposite sign may cancel), and the factor :data:`SAFETY`
 covers the higher-order terms the estimate leaves out (it is
-asymptotically exact, so it can fall short by a hair). Pairs whose estimate
+asymptotically exact, so it can fall short by a hair). The sum of the
+magnitudes is kept, not the signed sum, on purpose: across a sharp resonance
+the pairs' errors change sign and the signed sum was seen to fall four times
+short of the true error, while the sum of magnitudes is only pessimistic
+(for a rippling integrand, whose errors cancel, it asks for more points
+than needed). Pairs whose estimate
 exceeds their share of the tolerance are halved (both intervals) and the
 integrand is evaluated at the new points only, round after round, until every integral's estimate is
 within the tolerance or the point budget is spent; a result that did not get

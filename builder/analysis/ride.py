@@ -85,6 +85,7 @@ _DIRECTIONS = ("x", "y", "z", "rx", "ry", "rz")
 _CHUNK = 2048               # frequencies per evaluation block (bounded memory)
 _MAX_POINTS = 100_000       # refinement budget, dense models
 _SPARSE_FACTOR = 3          # refinement budget of sparse models: this times the start
+_DELAY_POINTS = 20_000      # most evenly spaced points for the wheelbase delay ripple
 _COUPLED = 1e-8             # a cosine below this: the road or the sensor misses a mode
 
 
@@ -359,6 +360,8 @@ class RideResult:
         if i.get("mode_points"):
             parts.append(f", {i['mode_points']} around {i['modes']} mode"
                          f"{'s' if i['modes'] != 1 else ''}")
+        if i.get("delay_points"):
+            parts.append(f", {i['delay_points']} evenly spaced for the wheelbase delay")
         if i.get("refined_points"):
             parts.append(f", {i['refined_points']} added by refinement")
         head = "".join(parts) + f"; {i['method']} FRF)"
@@ -693,19 +696,34 @@ def _integrand(response: _Response, spectrum: Any, weightings: list[tuple[int, s
 
 
 def _start_grid(band: tuple[float, float], points: int, frequency_hz: ArrayLike | None,
-                poles: NDArray, undamped: NDArray) -> tuple[NDArray, int]:
-    """The starting grid and how many of its points are log-spaced (or given)."""
+                poles: NDArray, undamped: NDArray, delay_s: float) -> tuple[NDArray, dict]:
+    """The starting grid, and how many of its points came from where.
+
+    The log grid (or the given one), a cluster at every damped mode
+    (:func:`builder.analysis.frf.resolving_grid`), and, when the road points
+    lie at different x, an even grid of spacing ``1 / (8 tau)``: the rear
+    wheels see the front profile ``tau`` later, which makes the PSD ripple
+    with period ``1 / tau`` in frequency (at most :data:`_DELAY_POINTS`).
+    """
     from .frf import resolving_grid
 
     if frequency_hz is None:
         base = np.geomspace(band[0], band[1], int(points))
     else:
         base = np.asarray(frequency_hz, dtype=float).reshape(-1)
-    f = np.union1d(base, resolving_grid(band, 2, poles))
+    clusters = resolving_grid(band, 2, poles)
+    f = np.union1d(base, clusters)
+    modes = f.size - base.size
+    ripple = np.zeros(0)
+    if delay_s > 0:
+        count = min(int(math.ceil(8 * delay_s * (band[1] - band[0]))) + 1, _DELAY_POINTS)
+        ripple = np.linspace(band[0], band[1], max(count, 2))
+    f = np.union1d(f, ripple)
     # keep clear of undamped poles left out of the sums (no point on a singularity)
     for fk in undamped:
         f = f[np.abs(f - fk) > 1e-6 * fk]
-    return f, base.size
+    return f, {"log_points": int(base.size), "mode_points": int(modes),
+               "delay_points": int(f.size - base.size - modes) if delay_s > 0 else 0}
 
 
 def ride_response(model: Any, road_class: str, speed_m_s: float, *, waviness: float = 2.0,
@@ -773,8 +791,10 @@ def _ride(model: Any, asm: Any, names: list[str], spectrum: Any, band: tuple[flo
     _undamped(model, response, names, spectrum, where)
     undamped = response.poles.imag[(np.abs(response.poles.real)
                                     < ZETA_FLOOR * np.abs(response.poles))] / (2 * math.pi)
-    start, log_points = _start_grid((fmin, fmax), points, frequency_hz, response.poles,
-                                    undamped[undamped > 0])
+    x = np.asarray(model.input_positions, dtype=float)[:, 0]
+    delay = float(np.ptp(x)) / case[1] if x.size else 0.0
+    start, counts = _start_grid((fmin, fmax), points, frequency_hz, response.poles,
+                                undamped[undamped > 0], delay)
 
     infos = {name: (asm.sensors.get(name) if asm is not None else None) for name in names}
     index = {name: model.sensors.index(name) for name in names}
@@ -789,12 +809,12 @@ def _ride(model: Any, asm: Any, names: list[str], spectrum: Any, band: tuple[flo
     result = adaptive_trapezoid(_integrand(response, spectrum, weightings), start, rtol=rtol,
                                 max_points=max(budget, start.size + 2))
     return _result(model, asm, names, index, infos, weightings, result, response, case,
-                   log_points, rtol)
+                   counts, rtol)
 
 
 def _result(model: Any, asm: Any, names: list[str], index: dict[str, int],
             infos: dict[str, Any], weightings: list[tuple[int, str]], integral: Integral,
-            response: _Response, case: tuple[str, float, float, str], log_points: int,
+            response: _Response, case: tuple[str, float, float, str], counts: dict,
             rtol: float) -> RideResult:
     """The RideResult from the integrals (one column per sensor, then the weighted ones)."""
     ns = len(names)
@@ -836,9 +856,8 @@ def _result(model: Any, asm: Any, names: list[str], index: dict[str, int],
     worst = int(np.argmax(relative)) if relative.size else 0
     labels = names + [f"{names[j]} weighted" for j, _ in weightings]
     information = {
-        "points": int(integral.x.size), "log_points": int(log_points),
-        "mode_points": int(integral.start - log_points) if integral.start > log_points else 0,
-        "modes": cluster, "refined_points": int(integral.x.size - integral.start),
+        "points": int(integral.x.size), **counts, "modes": cluster,
+        "refined_points": int(integral.x.size - integral.start),
         "rounds": integral.rounds, "method": response.method,
         "converged": bool(integral.converged), "rms_tolerance": 0.5 * rtol,
         "max_rms_error": float(relative.max()) if relative.size else 0.0,
