@@ -102,7 +102,10 @@ class Sensor:
     6-vector over the point's [x, y, z, rx, ry, rz] motion) or ``"link"``
     (``target`` a link, ``component`` the index of the link's deflection
     component). ``measure`` is displacement, velocity, acceleration,
-    deflection or force.
+    deflection or force. ``person`` names the ISO 2631-1 interface of a
+    person the sensor is at (``seat``, ``back``, ``feet``, ``floor``; ""
+    for none), ``place`` a name that groups the sensors of one person's
+    interface (e.g. a seat's name).
     """
 
     name: str
@@ -114,6 +117,8 @@ class Sensor:
     component: int = 0
     axis_name: str = ""
     where: Where = field(default_factory=Where)
+    person: str = ""
+    place: str = ""
 
 
 @dataclass(frozen=True, eq=False)
@@ -142,10 +147,29 @@ class Assembly:
     plugins: tuple[Any, ...] = ()
     source: str = ""
     warnings: tuple[str, ...] = ()
+    replaced: dict[str, Any] = field(default_factory=dict)
 
     def replace(self, **changes: Any) -> Assembly:
         """A new Assembly with some fields changed."""
         return replace(self, **changes)
+
+    def body_at(self, name: str, point: Any) -> str | None:
+        """The body that carries ``point`` (m) for a body ``name`` as a file wrote it.
+
+        The body itself when it exists; when a plugin replaced it (``replaced``
+        maps its name to an object whose ``body_at(point)`` names the part
+        holding the point, e.g. the segment of a split body), that part,
+        followed through further replacements. None for an unknown name. So a
+        plugin that refers to a body works whichever plugin ran first.
+        """
+        seen: set[str] = set()
+        while name not in self.bodies:
+            part = self.replaced.get(name)
+            if part is None or name in seen:
+                return None
+            seen.add(name)
+            name = part.body_at(np.asarray(point, dtype=float))
+        return name
 
     @property
     def dof_labels(self) -> tuple[str, ...]:

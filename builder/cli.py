@@ -30,7 +30,13 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "render": ("builder.commands.render", "3D picture or animation of a mode, or a review sheet"),
     "report": ("builder.commands.report", "self-contained HTML review report"),
     "sweep": ("builder.commands.sweep", "sweeps, scatter and sensitivities of file parameters"),
+    "format": ("builder.commands.format", "print the description of the assembly file format"),
 }
+
+#: Where the main help sends readers for the file format.
+EPILOG = ("The assembly file format (format 1) and how lumpgraph reads it: run "
+          "'lumpgraph format' to print it, 'lumpgraph format --path' for the installed file "
+          "(docs/format.md in the source).")
 
 
 class _Parser(argparse.ArgumentParser):
@@ -40,7 +46,7 @@ class _Parser(argparse.ArgumentParser):
 
 def _build(argv: Sequence[str]) -> tuple[argparse.ArgumentParser, object]:
     parser = _Parser(prog="lumpgraph", description="Lumped vehicle ride, comfort and NVH "
-                     "models from one assembly file.")
+                     "models from one assembly file.", epilog=EPILOG)
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     wanted = next((a for a in argv if not a.startswith("-")), None)
     module = None

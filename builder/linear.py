@@ -152,8 +152,10 @@ class LinearModel:
         if self.parent is not None:
             return np.asarray(self.expansion.T @ self.parent.static_load(g)).ravel()
         out = np.zeros(self.n)
+        starts = self._body_start
         for b in self.assembly.bodies.values():
-            out += self.force_input(b.name, None, "z") * (-b.mass * g)
+            if "z" in b.dofs:       # a vertical force at the cg loads the z DOF alone
+                out[starts[b.name] + b.dofs.index("z")] -= b.mass * g
         return out
 
     def static_response(self, g: float = GRAVITY) -> np.ndarray:

@@ -323,16 +323,37 @@ def _sensors(node: Node | None, bodies: Mapping[str, Body], links: Mapping[str, 
             out[name] = Sensor(name, "link", target, measure, component=comp, axis_name=axis,
                                where=snode.where)
             continue
-        f = snode.mapping(("body", "at", "measure", "direction"), required=("body", "measure"))
+        f = snode.mapping(("body", "at", "measure", "direction", "person"),
+                          required=("body", "measure"))
         target = f["body"].text("a body name")
         if target not in bodies:
             raise f["body"].error(_unknown("body", target, bodies))
         measure = f["measure"].choice(("displacement", "velocity", "acceleration"))
         at = np.array(f["at"].vector("length", params)) if "at" in f else bodies[target].cg.copy()
         direction, axis = _direction(f.get("direction"), params)
+        person = _person(f.get("person"), measure, axis)
         out[name] = Sensor(name, "body", target, measure, at=at, direction=direction,
-                           axis_name=axis, where=snode.where)
+                           axis_name=axis, where=snode.where, person=person)
     return out
+
+
+#: Person interfaces a body acceleration sensor may be at (ISO 2631-1 clause 8).
+PERSON_INTERFACES = ("seat", "back", "feet", "floor")
+
+
+def _person(node: Node | None, measure: str, axis: str) -> str:
+    """A sensor's ``person:`` (the interface of a person it is at), checked."""
+    if node is None:
+        return ""
+    value = node.choice(PERSON_INTERFACES)
+    if measure != "acceleration":
+        raise node.error("only acceleration sensors can be at a person "
+                         f"(ISO 2631-1 rates accelerations), not {measure}")
+    if axis not in ("x", "y", "z", "rx", "ry", "rz") or (
+            axis.startswith("r") and value != "seat"):
+        raise node.error("a sensor at a person measures along x, y or z (or rx, ry, rz "
+                         "on a seat surface)")
+    return value
 
 
 def match_dofs(pattern: str, dofs: tuple[str, ...]) -> list[str]:

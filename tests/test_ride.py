@@ -53,8 +53,8 @@ links:
   tyre_f: {type: spring, a: wheel_f, b: road.f, axis: z, stiffness: 200 kN/m}
   tyre_r: {type: spring, a: wheel_r, b: road.r, axis: z, stiffness: 190 kN/m}
 sensors:
-  seat: {body: body, at: [-1.5, 0, 0.6], measure: acceleration, direction: z}
-  seat_x: {body: body, at: [-1.5, 0, 0.6], measure: acceleration, direction: x}
+  seat: {body: body, at: [-1.5, 0, 0.6], measure: acceleration, direction: z, person: seat}
+  seat_x: {body: body, at: [-1.5, 0, 0.6], measure: acceleration, direction: x, person: seat}
   pitch: {body: body, measure: acceleration, direction: ry}
   travel_f: {link: susp_f, measure: deflection}
   tyre_f: {link: tyre_f, measure: force}

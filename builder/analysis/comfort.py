@@ -60,7 +60,7 @@ from ..errors import InputError, Where
 __all__ = [
     "CAUTION", "PARAMETERS", "WEIGHTING_BY_DIRECTION", "HEALTH_SEAT", "COMFORT_SEAT",
     "COMFORT_SEAT_ROTATION", "COMFORT_SEAT_BACK", "COMFORT_FEET", "COMFORT_BANDS",
-    "WeightingParameters", "ComfortEvaluation",
+    "WeightingParameters", "ComfortEvaluation", "Interface", "INTERFACES",
     "weighting", "weighting_magnitude", "weighting_for_direction",
     "weighted_rms_from_psd", "weighted_time_history", "weighted_rms_from_time",
     "vdv", "estimated_vdv", "crest_factor", "vector_sum", "comfort_reactions", "evaluate_comfort",
@@ -118,6 +118,46 @@ COMFORT_SEAT_ROTATION = (0.63, 0.4, 0.2)
 COMFORT_SEAT_BACK = (0.8, 0.5, 0.4)
 #: Comfort, seated, feet (kx, ky, kz) (clause 8.2.2).
 COMFORT_FEET = (0.25, 0.25, 0.4)
+
+@dataclass(frozen=True)
+class Interface:
+    """A place where vibration enters a person, as ISO 2631-1 clause 8 names them.
+
+    ``weightings`` maps translational axes to their frequency weighting;
+    ``comfort`` holds the comfort multipliers (kx, ky, kz) of the vector sum
+    there, ``health`` the health ones (seat surface only: the standard's
+    health guidance, clause 7, is for seated persons). Rotations count only
+    on a seat surface (We, multipliers :data:`COMFORT_SEAT_ROTATION`, m/rad).
+    """
+
+    name: str
+    words: str
+    weightings: dict[str, str]
+    comfort: tuple[float, float, float]
+    health: tuple[float, float, float] | None = None
+
+    def multiplier(self, axis: str) -> float:
+        """The comfort multiplier of one axis (x, y, z, or rx, ry, rz on a seat surface)."""
+        if axis in ("x", "y", "z"):
+            return self.comfort["xyz".index(axis)]
+        if self.name == "seat" and axis in ("rx", "ry", "rz"):
+            return COMFORT_SEAT_ROTATION[("rx", "ry", "rz").index(axis)]
+        return 0.0
+
+
+#: The person interfaces a sensor may be at (``Sensor.person``), ISO 2631-1 clause 8.2
+#: (weightings and multipliers from memory): seated person at the seat surface, the
+#: seat back and the feet, and a standing person on the floor.
+INTERFACES: dict[str, Interface] = {
+    "seat": Interface("seat", "seated person, seat surface",
+                      {"x": "Wd", "y": "Wd", "z": "Wk"}, COMFORT_SEAT, HEALTH_SEAT),
+    "back": Interface("back", "seated person, seat back",
+                      {"x": "Wc", "y": "Wd", "z": "Wd"}, COMFORT_SEAT_BACK),
+    "feet": Interface("feet", "seated person, feet",
+                      {"x": "Wk", "y": "Wk", "z": "Wk"}, COMFORT_FEET),
+    "floor": Interface("floor", "standing person, floor",
+                       {"x": "Wd", "y": "Wd", "z": "Wk"}, (1.0, 1.0, 1.0)),
+}
 
 #: Approximate reactions to vibration in public transport (ISO 2631-1 Annex C.2.3):
 #: (lower m/s^2, upper m/s^2, words). A band holds lower <= a_w < upper, except

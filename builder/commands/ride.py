@@ -31,7 +31,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--band", default=None, metavar="FMIN:FMAX",
                         help="frequency band in Hz (default 0.5:80, the ISO 2631-1 band)")
     parser.add_argument("--points", default=None, metavar="N",
-                        help="number of log-spaced frequencies (default 2000)")
+                        help="log-spaced frequencies to start from (default 400); points "
+                        "are added at every mode and where the integral needs them")
     parser.add_argument("--sensor", action="append", default=None, metavar="NAME",
                         help="report only this sensor (repeatable; default all)")
     parser.add_argument("--plot", default=None, metavar="OUT.png",

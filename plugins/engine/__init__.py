@@ -203,14 +203,17 @@ def add_engine(assembly: Any, spec: EngineSpec) -> Any:
                              DOF_NAMES, None, spec.where)
     links = dict(assembly.links)
     for m in spec.mounts:
-        if m.body != "ground" and m.body not in assembly.bodies:
+        # the body at the mount point: a body that a plugin listed before this one
+        # replaced (split_body) is followed to the segment carrying the point
+        body = m.body if m.body == "ground" else assembly.body_at(m.body, m.at)
+        if body is None:
             known = ", ".join(assembly.bodies) or "none"
             raise InputError(f'mount "{m.name}" is fixed to unknown body "{m.body}" '
                              f"(bodies: {known}, or ground)", spec.where)
         link = spec.link_name(m)
         if link in links:
             raise InputError(f'a link "{link}" already exists', spec.where)
-        links[link] = Link(link, "bushing", End(spec.name, m.at.copy()), End(m.body, m.at.copy()),
+        links[link] = Link(link, "bushing", End(spec.name, m.at.copy()), End(body, m.at.copy()),
                            bushing_props(m.frame, m.stiffness, m.damping, m.loss_factor),
                            spec.where)
     sensors = dict(assembly.sensors)

@@ -102,7 +102,7 @@ def parse_seat_spec(fields_: Mapping[str, Any], name: str,
         else:
             sign = "positive" if key in _POSITIVE else "nonnegative"
             values[key] = node.quantity(p.dimension, parameters, sign)
-    return SeatSpec(name=name, **values)
+    return SeatSpec(name=name, where=where, **values)
 
 
 def _suffixed(path: str, name: str) -> str:

@@ -32,7 +32,7 @@ rail point), ``NAME_head_z`` where the model has a head, and
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -69,6 +69,7 @@ class SeatSpec:
     cushion_damping_x: float = 800.0
     occupant: str = "boileau_rakheja_1998"
     occupant_mass: float = 75.0
+    where: Where = field(default_factory=Where, compare=False)
 
     def occupant_model(self) -> OccupantModel:
         """The occupant model scaled to ``occupant_mass``."""
@@ -140,17 +141,22 @@ def _end(node: str, at: np.ndarray) -> End:
     return End(node, np.asarray(at, dtype=float).copy())
 
 
-def _accel(name: str, body: str, at: np.ndarray, axis: str, where: Where) -> Sensor:
+def _accel(name: str, body: str, at: np.ndarray, axis: str, where: Where,
+           person: str = "", place: str = "") -> Sensor:
     direction = np.zeros(6)
     direction["xyz".index(axis)] = 1.0
     return Sensor(name, "body", body, "acceleration", at=np.asarray(at, dtype=float).copy(),
-                  direction=direction, axis_name=axis, where=where)
+                  direction=direction, axis_name=axis, where=where, person=person, place=place)
 
 
 def add_seat(assembly: Assembly, spec: SeatSpec, where: Where | None = None) -> Assembly:
     """A new Assembly with the seat and occupant of ``spec`` added (see module notes)."""
-    where = where or Where()
-    if spec.body not in assembly.bodies:
+    where = where or spec.where
+    floor = spec.rail_centre
+    # the body carrying each point: the seat's body, or the segment of it that a
+    # plugin listed before this one (split_body) put there
+    floor_body = assembly.body_at(spec.body, floor)
+    if floor_body is None:
         known = ", ".join(assembly.bodies) or "none"
         raise InputError(f'seat body "{spec.body}" is not a body (bodies: {known})',
                          where.child("body"))
@@ -174,7 +180,6 @@ def add_seat(assembly: Assembly, spec: SeatSpec, where: Where | None = None) -> 
         raise InputError("the cushion surface has no mass: give cushion_mass > 0 for this "
                          "occupant model", where.child("cushion_mass"))
 
-    floor = spec.rail_centre
     top = spec.surface_point
     frame_cg = floor + 0.5 * spec.surface_height * _Z
     bodies = dict(assembly.bodies)
@@ -198,7 +203,8 @@ def add_seat(assembly: Assembly, spec: SeatSpec, where: Where | None = None) -> 
         k = np.array([spec.rail_stiffness_x, 0, spec.rail_stiffness_z, 0, 0, 0]) * share
         c = np.array([spec.rail_damping_x, 0, spec.rail_damping_z, 0, 0, 0]) * share
         links[f"{spec.name}_rail_{i}"] = Link(
-            f"{spec.name}_rail_{i}", "bushing", _end(spec.body, r), _end(names.frame, r),
+            f"{spec.name}_rail_{i}", "bushing", _end(assembly.body_at(spec.body, r), r),
+            _end(names.frame, r),
             bushing_props(np.eye(3), k, c), where)
     links[names.cushion] = Link(
         names.cushion, "spring", _end(names.frame, top), _end(names.surface, top),
@@ -215,10 +221,13 @@ def add_seat(assembly: Assembly, spec: SeatSpec, where: Where | None = None) -> 
         links[link_name] = Link(link_name, "spring", _end(lower, at), _end(upper, at),
                                 spring_props(_Z, c.stiffness, c.damping), where)
 
-    sensors[names.seat_z] = _accel(names.seat_z, names.surface, top, "z", where)
-    sensors[names.seat_x] = _accel(names.seat_x, names.occupant_x, occupant_cg, "x", where)
-    sensors[names.floor_z] = _accel(names.floor_z, spec.body, floor, "z", where)
-    sensors[names.floor_x] = _accel(names.floor_x, spec.body, floor, "x", where)
+    # the seat surface is where ISO 2631-1 rates the seated occupant (person "seat")
+    place = f"{spec.name} seat"
+    sensors[names.seat_z] = _accel(names.seat_z, names.surface, top, "z", where, "seat", place)
+    sensors[names.seat_x] = _accel(names.seat_x, names.occupant_x, occupant_cg, "x", where,
+                                   "seat", place)
+    sensors[names.floor_z] = _accel(names.floor_z, floor_body, floor, "z", where)
+    sensors[names.floor_x] = _accel(names.floor_x, floor_body, floor, "x", where)
     if names.head_z:
         head = names.segments[model.head]
         sensors[names.head_z] = _accel(names.head_z, head, seg_cg[model.head], "z", where)

@@ -56,7 +56,7 @@ from builder.errors import InputError, Where
 from builder.kinematics import DOF_NAMES
 
 __all__ = ["SplitSpec", "SectionTable", "split_body", "segment_names", "SplitLayout",
-           "layout", "uniform_bar"]
+           "layout", "uniform_bar", "SegmentChain"]
 
 SECTION_KEYS = ("EA", "EIy", "EIz", "GJ", "shear_y", "shear_z")
 
@@ -118,6 +118,21 @@ class SplitLayout:
     cgs: np.ndarray
     inertias: np.ndarray
     delta: float
+
+
+@dataclass(frozen=True, eq=False)
+class SegmentChain:
+    """What a split body became: its segments and where each holds (for
+    :meth:`builder.assembly.Assembly.body_at`, so that plugins after the split
+    find the segment carrying a point of the old body)."""
+
+    names: tuple[str, ...]
+    axis: np.ndarray
+    stations: np.ndarray
+
+    def body_at(self, point: np.ndarray) -> str:
+        """The segment whose span holds ``point`` (m; before the span: the first)."""
+        return self.names[_segment_of(float(np.asarray(point, float) @ self.axis), self.stations)]
 
 
 def segment_names(prefix: str, count: int) -> list[str]:
@@ -194,6 +209,11 @@ def _weights(spec: SplitSpec, st: np.ndarray) -> np.ndarray:
 def layout(assembly: Assembly, spec: SplitSpec) -> SplitLayout:
     """Stations, segment masses, cgs and inertias (kg, m, kg m^2) of a split."""
     if spec.body not in assembly.bodies:
+        chain = assembly.replaced.get(spec.body)
+        if chain is not None:
+            raise InputError(f'body "{spec.body}" is already replaced by {chain.names[0]} ... '
+                             f"{chain.names[-1]}: split one of those, or split it once",
+                             spec.where)
         known = ", ".join(assembly.bodies)
         raise InputError(f'unknown body "{spec.body}" (bodies: {known})', spec.where)
     b = assembly.bodies[spec.body]
@@ -290,7 +310,9 @@ def split_body(assembly: Assembly, spec: SplitSpec) -> Assembly:
             at = b.cg if s.at is None else np.asarray(s.at, float)
             s = _replace_target(s, names[_segment_of(float(at @ lay.axis), lay.stations)])
         sensors[n] = s
-    return assembly.replace(bodies=bodies, links=links, sensors=sensors)
+    chain = SegmentChain(tuple(names), lay.axis.copy(), lay.stations.copy())
+    return assembly.replace(bodies=bodies, links=links, sensors=sensors,
+                            replaced={**assembly.replaced, spec.body: chain})
 
 
 def _replace_target(sensor: Sensor, target: str) -> Sensor:
