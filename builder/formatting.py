@@ -161,17 +161,19 @@ def _is_number(v: Any) -> bool:
 
 
 def text_table(headers: Sequence[str], rows: Sequence[Sequence[Any]], *,
-               spec: str = ".4g", indent: str = "", align: str | None = None,
-               rule: bool = True) -> str:
+               spec: str | Sequence[str] = ".4g", indent: str = "",
+               align: str | None = None, rule: bool = True) -> str:
     """A plain-text table whose column widths come from its content.
 
-    Numbers are formatted with ``spec`` (via :func:`number`) and right-aligned;
-    text is left-aligned. ``align`` overrides with one letter per column
+    Numbers are formatted with ``spec`` (one for all columns, or one per
+    column) through :func:`number` and right-aligned; text is left-aligned;
+    None prints as ``-``. ``align`` overrides with one letter per column
     (``l`` or ``r``). A line of dashes follows the header when ``rule``.
     """
-    cells = [[number(v, spec) if _is_number(v) else ("-" if v is None else str(v))
-              for v in row] for row in rows]
     ncol = len(headers)
+    specs = [spec] * ncol if isinstance(spec, str) else list(spec)
+    cells = [[number(v, specs[j]) if _is_number(v) else ("-" if v is None else str(v))
+              for j, v in enumerate(row)] for row in rows]
     if align is None:
         kinds = []
         for j in range(ncol):

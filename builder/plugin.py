@@ -19,7 +19,11 @@ and optionally
   and ``to_dict()``, for ``lumpgraph plugin NAME FILE``;
 - ``tables(assembly, model, **options) -> list[(title, rows)]`` for the report;
 - ``configure_cli(parser)``: extra options of ``lumpgraph plugin NAME``;
-- ``label_mode(model, shape, energy) -> str | None``: mode labels in its words.
+- ``label_mode(model, shape, energy) -> str | None``: mode labels in its words;
+- ``check_summary(model, eigenvalues, shapes) -> list[dict]``: figures for
+  ``lumpgraph check``, each a dict with a one-line ``"text"`` and its values
+  (SI, JSON-ready); it gets the lowest modes the check computed (at least
+  :data:`builder.analysis.checks.PLUGIN_MODES` of them) and may solve more.
 
 Plugins are registered in the entry-point group ``lumpgraph.plugins``; the
 built-in ones in ``plugins/`` are registered the same way in this project's
