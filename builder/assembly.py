@@ -181,8 +181,9 @@ class Assembly:
         is in the model. Every consumer of the model's total mass, cg or
         inertia takes it from here.
         """
+        parts = self.directional_parts()
         return combined_mass_properties(
-            [b for b in self.bodies.values() if b.name not in self.directional_parts()])
+            [b for b in self.bodies.values() if b.name not in parts])
 
     def directional_parts(self) -> dict[str, tuple[str, ...]]:
         """Bodies whose mass is counted in others: name -> the bodies that count it."""

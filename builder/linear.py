@@ -19,6 +19,7 @@ frequency domain only. Sensors read y = Sd q + Sv q' + Sa q'' + Dr r + Dv r'
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -126,7 +127,7 @@ class LinearModel:
         r = np.zeros(3) if at is None else np.asarray(at, float) - b.cg
         return cols, motion_map(r)[:, sel]
 
-    @property
+    @functools.cached_property
     def _body_start(self) -> dict[str, int]:
         starts, pos = {}, 0
         for b in self.assembly.bodies.values():
@@ -152,8 +153,9 @@ class LinearModel:
         if self.parent is not None:
             return np.asarray(self.expansion.T @ self.parent.static_load(g)).ravel()
         out = np.zeros(self.n)
-        for b in self.assembly.bodies.values():
-            out += self.force_input(b.name, None, "z") * (-b.mass * g)
+        for b in self.assembly.bodies.values():       # the weight at each cg, along -z
+            cols, T = self.body_point(b.name)
+            out[cols] += T[2] * (-b.mass * g)
         return out
 
     def static_response(self, g: float = GRAVITY) -> np.ndarray:

@@ -24,6 +24,7 @@ body. The text summary fits one screen; :meth:`ModelChecks.table` with
 
 from __future__ import annotations
 
+import contextlib
 import math
 import textwrap
 from dataclasses import dataclass, field
@@ -33,7 +34,7 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
-from ..eigen import lowest_modes, natural_frequencies_hz
+from ..eigen import DENSE_LIMIT, lowest_modes, natural_frequencies_hz
 from ..formatting import count, number, percent, text_table
 from ..linear import GRAVITY, LinearModel
 from .corners import WHEEL_RATE_SOURCE, CornerFigures, corner_figures
@@ -46,8 +47,8 @@ SUMMARY_ROWS = 12
 #: ... and of the corner and axle tables.
 _CORNER_ROWS, _AXLE_ROWS = 8, 6
 
-#: Lowest modes the check computes (enough to count rigid-body modes of a free
-#: vehicle and a loose part or two) ...
+#: Lowest modes the check computes first; when all are zero-frequency, it asks
+#: for more (this many, then twice as many ...) until one is not.
 _MODES = 12
 
 #: ... and when an applied plugin has a ``check_summary`` hook, which gets them.
@@ -59,6 +60,9 @@ _ROUNDOFF_FACTOR = 3.0
 
 #: ... or below this omega^2 (rad^2/s^2): 0.001 Hz, far below any vehicle mode.
 _FLOOR = (2 * math.pi * 1e-3) ** 2
+
+#: Largest relative gap between road loads and weight of a trustworthy static solution.
+_BALANCE = 1e-6
 
 
 def zero_frequency_modes(K: Any, eigenvalues: np.ndarray, shapes: np.ndarray) -> np.ndarray:
@@ -77,6 +81,24 @@ def zero_frequency_modes(K: Any, eigenvalues: np.ndarray, shapes: np.ndarray) ->
     a = np.abs(shapes)
     level = np.finfo(float).eps * np.einsum("ij,ij->j", a, np.asarray(abs(K) @ a))
     return lam <= np.maximum(_ROUNDOFF_FACTOR * level, _FLOOR)
+
+
+def _lowest_modes(model: LinearModel, count: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The lowest ``count`` modes, and more until one is not zero-frequency (or all
+    are computed): eigenvalues (rad^2/s^2), shapes and the zero-frequency mask.
+
+    A vehicle on its tyres has no zero-frequency mode, so its lowest mode alone
+    settles the count: the eigen-solution, the costliest part of the check for a
+    model with many close modes, then stays small.
+    """
+    n = model.n
+    count = min(n, max(1, count))
+    while True:
+        lam, shapes = lowest_modes(model.K, model.M, count)
+        rigid = zero_frequency_modes(model.K, lam, shapes)
+        if not rigid.all() or count == n:
+            return lam, shapes, rigid
+        count = min(n, max(_MODES, 2 * count))
 
 
 def _smallest_mass_eigenvalue(M: Any) -> float:
@@ -247,7 +269,8 @@ class ModelChecks:
         lowest = ", ".join(f"{f:.3g}" for f in self.lowest_hz)
         m_min = self.min_eigenvalue["M"]
         return ["",
-                zero + (f"; lowest natural frequencies {lowest} Hz" if lowest else ""),
+                zero + (f"; lowest natural frequenc{'y' if len(self.lowest_hz) == 1 else 'ies'}"
+                        f" {lowest} Hz" if lowest else ""),
                 "unconnected bodies: " + (", ".join(self.unconnected) or "none"),
                 "symmetry |A - A^T| / |A|: " + "  ".join(f"{k} {v:.1e}"
                                                           for k, v in self.asymmetry.items()),
@@ -286,9 +309,8 @@ class ModelChecks:
                          "(--detail lists all)")
         total = cf.road_load
         lines.append(f"  road points carry {total:.1f} N ({total / GRAVITY:.1f} kg)"
-                     + (f"; {cf.other_supports:.1f} N go to ground links"
-                        if abs(cf.other_supports) > 1e-6 * max(abs(cf.weight), 1.0) else
-                        ", the whole weight on the vertical DOFs"))
+                     + (f"; {cf.other_supports:.1f} N go to ground links" if cf.grounded
+                        else f", against a weight of {cf.weight:.1f} N on the vertical DOFs"))
         lines += textwrap.wrap(WHEEL_RATE_SOURCE, 96, initial_indent="  ",
                                subsequent_indent="    ")
         lines.extend(f"  note: {n}" for n in cf.notes)
@@ -334,8 +356,24 @@ class ModelChecks:
         return "\n".join(lines)
 
 
+def _one_blas_thread() -> contextlib.AbstractContextManager:
+    """One BLAS thread while the checks run: their dense kernels are small (blocks of
+    a few DOFs, Lanczos vectors) and threads only contend for them, several times
+    slower on a busy two-core machine. Without threadpoolctl, the default."""
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:  # pragma: no cover - threadpoolctl comes with scipy's stack
+        return contextlib.nullcontext()
+    return threadpool_limits(limits=1, user_api="blas")
+
+
 def check_model(model: LinearModel) -> ModelChecks:
     """Run every model check on an (unreduced) model."""
+    with _one_blas_thread():
+        return _check_model(model)
+
+
+def _check_model(model: LinearModel) -> ModelChecks:
     asm = model.assembly
     mass, cg, inertia = asm.mass_properties()
     n = model.n
@@ -343,8 +381,8 @@ def check_model(model: LinearModel) -> ModelChecks:
     zero = 0
     hooks = _summary_hooks(model)
     if n:
-        lam, shapes = lowest_modes(model.K, model.M, min(n, PLUGIN_MODES if hooks else _MODES))
-        rigid = zero_frequency_modes(model.K, lam, shapes)
+        lam, shapes, rigid = _lowest_modes(
+            model, PLUGIN_MODES if hooks else (3 if n <= DENSE_LIMIT else 1))
         zero = int(np.sum(rigid))
         lam, shapes = lam[~rigid], shapes[:, ~rigid]
     anchored = any(lk.a.kind != "body" or lk.b.kind != "body" for lk in asm.links.values())
@@ -362,6 +400,13 @@ def check_model(model: LinearModel) -> ModelChecks:
         q = model.static_response(GRAVITY)
         static = _static(model, q)
         corners = corner_figures(model, q)
+        if corners is not None and corners.imbalance > _BALANCE:
+            warnings.append(
+                f"the static solution is inaccurate: the road points carry "
+                f"{corners.road_load:.1f} N of a weight of {corners.weight:.1f} N "
+                f"({percent(corners.imbalance, 2)} apart); the stiffness matrix is too "
+                "ill-conditioned (very stiff links on light bodies, such as many short "
+                "segments): fewer segments or softer joints give trustworthy loads")
     summaries, problems = _plugin_summaries(model, lam, shapes) if hooks else ([], [])
     warnings += problems
     parts = asm.directional_parts()

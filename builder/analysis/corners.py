@@ -27,11 +27,14 @@ Rates, each along the road-input direction (vertical):
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 import scipy.linalg
+import scipy.sparse as sp
+from scipy.sparse.linalg import splu
 
 from ..linear import GRAVITY, LinearModel
 
@@ -47,7 +50,7 @@ WHEEL_RATE_SOURCE = ("wheel rate: the links between each wheel (the body on its 
                      "everything else held; ride rate: wheel and tyre rate in series "
                      "(1/k_ride = 1/k_wheel + 1/k_tyre)")
 
-#: Most wheel DOFs for which wheel rates are solved (a dense system).
+#: Most wheel DOFs for which a singular wheel system is solved by least squares (dense).
 _MAX_WHEEL_DOFS = 3000
 
 
@@ -91,13 +94,23 @@ class Axle:
 
 @dataclass(frozen=True)
 class CornerFigures:
-    """Corners and axles of a model; ``weight`` (N) is the load of gravity on its DOFs."""
+    """Corners and axles of a model; ``weight`` (N) is the load of gravity on its DOFs;
+    ``grounded``: some link ends on ground (and may carry part of the weight)."""
 
     corners: tuple[Corner, ...]
     axles: tuple[Axle, ...]
     road_load: float
     weight: float
+    grounded: bool = False
     notes: tuple[str, ...] = ()
+
+    @property
+    def imbalance(self) -> float:
+        """Relative gap between the road load and the weight of an ungrounded model
+        (a measure of the static solution's accuracy; 0 for a grounded one)."""
+        if self.grounded or not self.weight:
+            return 0.0
+        return abs(self.road_load - self.weight) / abs(self.weight)
 
     @property
     def other_supports(self) -> float:
@@ -160,41 +173,53 @@ def _wheel_rates(model: LinearModel, by_road: dict[str, list[tuple[str, str, Any
     roads = list(by_road)
     if idx.size == 0:
         return dict.fromkeys(roads), ""
-    if idx.size > _MAX_WHEEL_DOFS:
-        return dict.fromkeys(roads), (f"wheel rates not solved: the wheels have {idx.size} "
-                                      f"DOFs (at most {_MAX_WHEEL_DOFS})")
     local = -np.ones(model.n, dtype=int)
     local[idx] = np.arange(idx.size)
-    Ks = model.K[idx][:, idx].toarray()
-    T = np.zeros((len(roads), idx.size))
+    n, m = idx.size, len(roads)
+    tyre_r, tyre_c, tyre_v, t_r, t_c, t_v = [], [], [], [], [], []
     for i, road in enumerate(roads):
-        kt = 0.0
+        kt, row_c, row_v = 0.0, [], []
         for _, _, lm in by_road[road]:
             pos = local[lm.cols]
             keep = pos >= 0
             e = lm.Dr.sum(axis=1)                   # component change per unit road input
             k = lm.stiffness
-            block = (lm.Dq.T * k) @ lm.Dq
-            Ks[np.ix_(pos[keep], pos[keep])] -= block[np.ix_(keep, keep)]   # tyre left out
+            block = ((lm.Dq.T * k) @ lm.Dq)[np.ix_(keep, keep)]      # the tyre, left out
+            rr, cc = np.meshgrid(pos[keep], pos[keep], indexing="ij")
+            tyre_r.append(rr.ravel())
+            tyre_c.append(cc.ravel())
+            tyre_v.append(-block.ravel())
             # the wheel's displacement along the road input, as the tyre sees it
-            np.add.at(T[i], pos[keep], -((e * k) @ lm.Dq)[keep])
+            row_c.append(pos[keep])
+            row_v.append(-((e * k) @ lm.Dq)[keep])
             kt += float(e @ (k * e))
-        T[i] = T[i] / kt if kt > 0 else 0.0
+        if kt > 0 and row_c:
+            t_r.append(np.full(sum(len(c) for c in row_c), i))
+            t_c.append(np.concatenate(row_c))
+            t_v.append(np.concatenate(row_v) / kt)
+    Ks = sp.csr_array(model.K[idx][:, idx]) + sp.csr_array(
+        (np.concatenate(tyre_v), (np.concatenate(tyre_r), np.concatenate(tyre_c))),
+        shape=(n, n))
     Ks = 0.5 * (Ks + Ks.T)
-    n, m = Ks.shape[0], T.shape[0]
-    scale = max(float(np.abs(np.diag(Ks)).max()) if n else 0.0, 1.0)
+    T = sp.csr_array((np.concatenate(t_v), (np.concatenate(t_r), np.concatenate(t_c))),
+                     shape=(m, n)) if t_r else sp.csr_array((m, n))
+    scale = max(float(np.abs(Ks.diagonal()).max()), 1.0)
     # Saddle point of the parallel travel T q = 1 (rows scaled like Ks, for accuracy):
     # [Ks, s T^T; s T, 0] [q; -f/s] = [0; s 1].
-    A = np.block([[Ks, scale * T.T], [scale * T, np.zeros((m, m))]])
+    A = sp.bmat([[Ks, scale * T.T], [scale * T, None]], format="csc")
     rhs = np.concatenate([np.zeros(n), scale * np.ones(m)])
     try:
-        with np.errstate(all="raise"):
-            sol = scipy.linalg.solve(A, rhs, assume_a="sym")
+        with np.errstate(all="raise"), warnings.catch_warnings():
+            warnings.simplefilter("error")
+            sol = splu(A).solve(rhs)
         if not np.all(np.isfinite(sol)):
-            raise np.linalg.LinAlgError
-    except (np.linalg.LinAlgError, FloatingPointError, scipy.linalg.LinAlgWarning):
+            raise RuntimeError("singular")
+    except (RuntimeError, FloatingPointError, Warning):
         # a wheel direction no link holds: the least-squares answer gives it no rate
-        sol = scipy.linalg.lstsq(A, rhs, lapack_driver="gelsd")[0]
+        if n + m > _MAX_WHEEL_DOFS:
+            return dict.fromkeys(roads), (f"wheel rates not solved: a wheel moves without "
+                                          f"deforming a link and the wheels have {n} DOFs")
+        sol = scipy.linalg.lstsq(A.toarray(), rhs, lapack_driver="gelsd")[0]
     forces = -scale * sol[n:]
     return {r: (float(f) if abs(f) > 1e-9 * scale else 0.0) for r, f in zip(roads, forces)}, ""
 
@@ -228,10 +253,10 @@ def corner_figures(model: LinearModel, q_static: np.ndarray | None = None,
         out.append(Corner(road, "+".join(n for n, _, _ in links), links[0][1],
                           float(at[road][0]), float(at[road][1]), axle_of[road], loads[road],
                           kt, kw, ride))
-    weight = -float(np.sum(model.static_load(g)[_vertical_dofs(model)]))
+    # gravity's load on the vertical DOFs: the bodies that have one (at the cg, z
+    # moves only with z)
+    weight = g * float(sum(b.mass for b in model.assembly.bodies.values() if "z" in b.dofs))
+    grounded = any(e.kind == "ground" for lk in model.assembly.links.values()
+                   for e in (lk.a, lk.b))
     return CornerFigures(tuple(out), tuple(axles), float(sum(loads.values())), weight,
-                         (note,) if note else ())
-
-
-def _vertical_dofs(model: LinearModel) -> np.ndarray:
-    return np.array([i for i, d in enumerate(model.dofs) if d.endswith(".z")], dtype=int)
+                         grounded, (note,) if note else ())

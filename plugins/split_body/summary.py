@@ -125,7 +125,7 @@ def check_summary(model: Any, eigenvalues: np.ndarray, shapes: np.ndarray
     count = lam.size
     while (any(f is None for c in found.values() for f in c.values())
            and count < min(_MAX_MODES, model.n)):
-        count = min(2 * count, _MAX_MODES, model.n)
+        count = min(max(2 * count, 24), _MAX_MODES, model.n)
         lam, x = lowest_modes(model.K, model.M, count)
         found = first_elastic_modes(model, lam, x)
     top = float(natural_frequencies_hz(lam[-1:])[0]) if lam.size else 0.0
