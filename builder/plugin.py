@@ -65,6 +65,11 @@ _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
 class Parameter:
     """A plugin parameter: name, unit dimension or kind, SI default (None: none), help.
 
+    ``unit`` is the unit the plugin states the parameter in (``"rpm"`` for an
+    engine speed); ``lumpgraph plugins`` shows the default in it, or, when it
+    is empty, in the engineering unit of the dimension
+    (:data:`builder.formatting.ENGINEERING_UNITS`). Values are SI either way.
+
     A parameter of kind ``"records"`` is a list of mappings whose own keys are
     declared in ``fields`` (Parameters again), e.g. the mounts of a powertrain;
     the core refuses unknown keys of every record and checks the dimension of
@@ -76,6 +81,7 @@ class Parameter:
     default: Any = None
     help: str = ""
     fields: tuple[Parameter, ...] = ()
+    unit: str = ""
 
 
 @dataclass(frozen=True, eq=False)

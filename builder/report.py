@@ -35,6 +35,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from .errors import InputError, LumpgraphError, Where
+from .formatting import count, percent
 
 if TYPE_CHECKING:
     from .assembly import Assembly
@@ -153,9 +154,10 @@ def _summary(assembly: Any, model: Any) -> str:
     bodies = [[_e(b.name), _num(b.mass), _vector(b.cg), _e(" ".join(b.dofs)),
                _e((b.shape or {}).get("kind", "equivalent box") if b.shape else "equivalent box")]
               for b in assembly.bodies.values()]
-    out = [f"<p>{len(assembly.bodies)} bodies, {len(assembly.links)} links, "
-           f"{len(assembly.road)} road points, {len(assembly.sensors)} sensors; "
-           f"model analysed: <b>{_e(model.name)}</b> with {len(model.dofs)} DOFs.</p>",
+    out = [f"<p>{count(len(assembly.bodies), 'body')}, {count(len(assembly.links), 'link')}, "
+           f"{count(len(assembly.road), 'road point')}, "
+           f"{count(len(assembly.sensors), 'sensor')}; model analysed: "
+           f"<b>{_e(model.name)}</b> with {count(len(model.dofs), 'DOF')}.</p>",
            "<h3>Bodies</h3>",
            _table(["body", "mass (kg)", "cg (m)", "DOFs", "drawn as"], bodies, left=(0, 3, 4),
                   limit=MAX_ROWS)]
@@ -235,7 +237,7 @@ def _checks(model: Any) -> str:
 
 def _energy_text(energy: dict[str, float], limit: float = 0.05) -> str:
     shares = sorted(energy.items(), key=lambda kv: -abs(kv[1]))
-    parts = [f"{_e(k)} {100 * v:.0f}%" for k, v in shares if abs(v) >= limit][:5]
+    parts = [f"{_e(k)} {percent(v, 0)}" for k, v in shares if abs(v) >= limit][:5]
     return ", ".join(parts) or "-"
 
 
@@ -265,8 +267,8 @@ def _ladder(model: Any) -> str:
         for m, k, c, e in zip(rung.modes.modes, rung.match, rung.mac, rung.error, strict=True):
             ff = ladder.full.modes[k - 1].frequency_hz if k else None
             rows.append([str(m.number), _num(m.frequency_hz), str(k or "-"), _num(ff),
-                         f"{c:.3f}", f"{100 * e:+.2f} %", _e(m.label)])
-        out += [f"<h3>Depth {_e(rung.depth)}: {len(rung.dofs)} DOFs "
+                         f"{c:.3f}", percent(e, 2, signed=True), _e(m.label)])
+        out += [f"<h3>Depth {_e(rung.depth)}: {count(len(rung.dofs), 'DOF')} "
                 f"({_e(', '.join(rung.dofs))})</h3>",
                 _table(["mode", "f (Hz)", "full mode", "full f (Hz)", "MAC", "error", "label"],
                        rows, left=(6,))]
@@ -446,7 +448,7 @@ def report_html(assembly: Assembly, model: LinearModel, *, sheet: int = 12, road
         f"<style>{_STYLE}</style></head><body><main>",
         f"<h1>{_e(title)}</h1>",
         f'<p class="sub">Review report by lumpgraph; source {_e(assembly.source or "-")}; '
-        f"model {_e(model.name)} ({len(model.dofs)} DOFs). SI units, ISO 8855 axes "
+        f"model {_e(model.name)} ({count(len(model.dofs), 'DOF')}). SI units, ISO 8855 axes "
         "(x forward, y left, z up).</p>",
         f'<div class="caution">{_e(CAUTION)}</div>',
         _section("Model summary", lambda: _summary(assembly, model)),
