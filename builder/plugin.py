@@ -109,19 +109,11 @@ class Table:
                 "rows": [list(r) for r in self.rows], "notes": list(self.notes)}
 
     def text(self) -> str:
-        cells = [list(self.columns)] + [[_cell(v) for v in r] for r in self.rows]
-        widths = [max(len(str(r[i])) for r in cells) for i in range(len(self.columns))]
-        lines = [self.title]
-        for k, r in enumerate(cells):
-            lines.append("  ".join(str(v).rjust(w) for v, w in zip(r, widths)))
-            if k == 0:
-                lines.append("  ".join("-" * w for w in widths))
+        """Title, the table (columns sized by content, text left, numbers right) and notes."""
+        from .formatting import text_table
+        lines = [self.title, text_table(self.columns, self.rows, spec=".4g")]
         lines.extend(f"note: {n}" for n in self.notes)
         return "\n".join(lines)
-
-
-def _cell(v: Any) -> str:
-    return f"{v:.4g}" if isinstance(v, float) else str(v)
 
 
 def declaration_problem(obj: Any) -> str:

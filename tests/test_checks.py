@@ -303,3 +303,17 @@ def test_long_models_get_a_one_screen_summary_and_details_on_request(run_cli, wr
     assert "more road points (--detail lists all)" in out
     code, out, _ = run_cli("check", path, "--detail")
     assert code == 0 and all(f"k{i} " in out for i in range(300))
+
+
+def test_a_wheel_pulling_on_the_road_and_a_loose_wheel_are_reported():
+    # Without its front-left spring the van stands on three springs and the
+    # anti-roll bar: statics put a pulling (negative) load on the diagonal
+    # corner, rr, and the front-left wheel rises with no spring to deform.
+    text = VAN.read_text().replace("  susp_fl:", "  #susp_fl:").replace(
+        "  travel_fl: {link: susp_fl, measure: deflection}\n", "")
+    model = assemble(load_text(text))
+    loads = tyre_loads(model)
+    assert loads["tyre_rr"] < 0 < min(loads["tyre_fl"], loads["tyre_fr"], loads["tyre_rl"])
+    warnings = "\n".join(check_model(model).warnings)
+    assert f"the static load at rr ({loads['tyre_rr']:.0f} N) is negative" in warnings
+    assert "wheel rate 0 at fl" in warnings

@@ -356,6 +356,22 @@ class ModelChecks:
         return "\n".join(lines)
 
 
+def _corner_warnings(cf: CornerFigures) -> list[str]:
+    """Road points that pull on the road under 1 g, and wheels that no link holds."""
+    out = []
+    lifted = [c for c in cf.corners if c.load < 0]
+    if lifted:
+        names = ", ".join(f"{c.road} ({c.load:.0f} N)" for c in lifted)
+        out.append(f"the static load at {names} is negative: standing still, that wheel "
+                   "would lift off the road (the linear model holds it down by pulling); "
+                   "look at the springs and the cg")
+    loose = [c.road for c in cf.corners if c.wheel_rate == 0]
+    if loose:
+        out.append(f"wheel rate 0 at {', '.join(loose)}: that wheel rises without deforming "
+                   "a link (no suspension spring between it and the rest)")
+    return out
+
+
 def _one_blas_thread() -> contextlib.AbstractContextManager:
     """One BLAS thread while the checks run: their dense kernels are small (blocks of
     a few DOFs, Lanczos vectors) and threads only contend for them, several times
@@ -400,6 +416,8 @@ def _check_model(model: LinearModel) -> ModelChecks:
         q = model.static_response(GRAVITY)
         static = _static(model, q)
         corners = corner_figures(model, q)
+        if corners is not None:
+            warnings += _corner_warnings(corners)
         if corners is not None and corners.imbalance > _BALANCE:
             warnings.append(
                 f"the static solution is inaccurate: the road points carry "
