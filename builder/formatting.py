@@ -38,7 +38,7 @@ from typing import Any
 from .quantities import DIMENSIONS, parse_unit
 
 __all__ = ["ENGINEERING_UNITS", "SI_UNITS", "count", "plural", "number", "percent",
-           "in_unit", "display_unit", "quantity_text", "engineering_unit_of",
+           "in_unit", "display_unit", "quantity_text", "engineering_unit_of", "unit_of_dimension",
            "text_table"]
 
 #: The unit a value of each named dimension is printed in (text and plots).
@@ -137,6 +137,16 @@ def quantity_text(value_si: Any, dimension: str | None = None, unit: str | None 
     return f"{text} {unit}" if unit else text
 
 
+def unit_of_dimension(dim: tuple[int, int, int]) -> str:
+    """The engineering unit of a dimension given as exponents of (kg, m, s);
+    ``(1, 0, -2)`` -> ``"kN/m"``. A frequency-like (1/s) value prints in Hz."""
+    for name, (d, _noun) in DIMENSIONS.items():
+        if d == tuple(dim) and name in ENGINEERING_UNITS and name not in (
+                "angular_speed", "angle", "torque"):
+            return ENGINEERING_UNITS[name]
+    return ""
+
+
 def engineering_unit_of(si_unit: str) -> str:
     """The engineering unit for values given in ``si_unit`` (same dimension).
 
@@ -150,10 +160,7 @@ def engineering_unit_of(si_unit: str) -> str:
         _, dim = parse_unit(si_unit)
     except ValueError:
         return si_unit
-    for name, (d, _noun) in DIMENSIONS.items():
-        if d == dim and name in ENGINEERING_UNITS and name not in ("angular_speed", "angle"):
-            return ENGINEERING_UNITS[name]
-    return si_unit
+    return unit_of_dimension(dim) or si_unit
 
 
 def _is_number(v: Any) -> bool:

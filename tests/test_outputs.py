@@ -92,3 +92,19 @@ def test_plugins_show_defaults_in_the_declared_unit(run_cli):
     idle = next(p for p in engine["parameters"] if p["name"] == "idle_speed")
     assert idle["default"] == pytest.approx(800 * 2 * math.pi / 60)      # SI, rad/s
     assert idle["default_text"] == "800 rpm"
+
+
+def test_sensitivities_and_targets_print_per_engineering_unit(run_cli):
+    # df/dp in Hz per kN/m is 1000 times df/dp in Hz per N/m (SI definition).
+    code, out, _ = run_cli("sweep", CARS / "compact_car.yaml", "--vary",
+                           "ks_front=15kN/m..30kN/m:2", "--sensitivity", "--modes", "1")
+    assert code == 0 and "Hz per kN/m" in out and "SI unit" not in out
+    code, js, _ = run_cli("sweep", CARS / "compact_car.yaml", "--vary",
+                          "ks_front=15kN/m..30kN/m:2", "--sensitivity", "--json")
+    import json
+    si = json.loads(js)["modes"][0]["df_dp"]["ks_front"]
+    row = next(line for line in out.splitlines() if line.strip().startswith("ks_front"))
+    assert float(row.split()[1]) == pytest.approx(1000 * si, rel=1e-5)
+    code, out, _ = run_cli("sweep", CARS / "compact_car.yaml", "--vary",
+                           "ks_front=15kN/m..30kN/m:2", "--target", "1=1.1Hz")
+    assert code == 0 and re.search(r"ks_front +\d+(\.\d+)? kN/m", out)

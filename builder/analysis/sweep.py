@@ -35,13 +35,13 @@ import re
 import sys
 import time
 from collections.abc import Callable, Iterator, Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any, Protocol, TextIO
 
 import numpy as np
 
 from ..errors import InputError, Where
-from ..formatting import engineering_unit_of, in_unit, text_table
+from ..formatting import engineering_unit_of, in_unit, text_table, unit_of_dimension
 from .sampling import REF_NOMINAL, REF_NONE, Design
 from .sensitivity import FrequencySensitivities, frequency_sensitivities
 from .tracking import batch_match
@@ -820,6 +820,7 @@ class TargetResult:
     success: bool
     message: str
     evaluations: int
+    units: dict[str, str] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
         return {"parameters": self.values, "targets": self.targets, "achieved": self.achieved,
@@ -828,7 +829,10 @@ class TargetResult:
 
     def text(self) -> str:
         lines = ["parameters found:"]
-        lines += [f"  {n:<20} {self.values[n]:.6g}" for n in self.names]
+        for n in self.names:
+            unit = self.units.get(n, "")
+            value = in_unit(self.values[n], unit) if unit else self.values[n]
+            lines.append(f"  {n:<20} {value:.6g}{' ' + unit if unit else ''}")
         lines.append("achieved:")
         for key, got in self.achieved.items():
             want = self.targets.get(key)
@@ -1066,7 +1070,8 @@ def file_sensitivities(path: str | os.PathLike[str], names: Sequence[str] | None
             raise InputError(f'changing "{n}" changes the model\'s DOFs', Where(field="--vary"))
         dKs.append((Kp - Km) / (2 * h))
         dMs.append((Mp - Mm) / (2 * h))
-    return frequency_sensitivities(K0, M0, dKs, dMs, names, [p0[n] for n in names])
+    sens = frequency_sensitivities(K0, M0, dKs, dMs, names, [p0[n] for n in names])
+    return replace(sens, units=tuple(unit_of_dimension(params[n].dim) for n in names))
 
 
 @dataclass(frozen=True)

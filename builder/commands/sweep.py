@@ -298,5 +298,9 @@ def _targets(args: argparse.Namespace, params: dict, keep: tuple[str, ...]) -> i
     if args.json:
         print_json(res)
     else:
-        print(res.text())
+        import dataclasses
+
+        from ..formatting import unit_of_dimension
+        print(dataclasses.replace(res, units={n: unit_of_dimension(params[n].dim)
+                                              for n in res.names}).text())
     return 0
