@@ -210,7 +210,9 @@ def _checks(model: Any) -> str:
     d = checks.to_dict()
     inertia = np.asarray(checks.inertia)
     rows = [
-        ["total mass", f"{checks.total_mass:.2f} kg"],
+        ["total mass", f"{checks.total_mass:.2f} kg" + "".join(
+            f"; {part} ({checks.directional_mass[part]:.1f} kg) counted once, in "
+            f"{', '.join(holders)}" for part, holders in checks.directional_parts.items())],
         ["combined cg", _vector(checks.cg) + " m"],
         ["inertia about cg", f"xx {inertia[0, 0]:.1f}, yy {inertia[1, 1]:.1f}, "
                              f"zz {inertia[2, 2]:.1f} kg m^2"],
@@ -223,12 +225,30 @@ def _checks(model: Any) -> str:
         ["overall", "passed" if checks.ok else "NEEDS ATTENTION"],
     ]
     out = [_table(["check", "result"], [[_e(a), _e(b)] for a, b in rows], left=(0, 1))]
+    if checks.corners is not None:
+        from .analysis.corners import WHEEL_RATE_SOURCE
+        from .linear import GRAVITY
+        corners = [[_e(c.road), _e(c.axle), _e(c.link), _num(c.load), _num(c.load / GRAVITY),
+                    _num(c.tyre_rate / 1e3), _num(None if c.wheel_rate is None
+                                                  else c.wheel_rate / 1e3),
+                    _num(None if c.ride_rate is None else c.ride_rate / 1e3)]
+                   for c in checks.corners.corners]
+        axles = [[_e(a.name), _num(a.x), _num(a.load), _num(a.load / GRAVITY),
+                  _e(percent(a.share))] for a in checks.corners.axles]
+        out += ["<h3>Static loads under 1 g and ride rates</h3>",
+                _table(["road point", "axle", "link", "load (N)", "load (kg)", "tyre (kN/m)",
+                        "wheel (kN/m)", "ride (kN/m)"], corners, left=(0, 1, 2),
+                       limit=MAX_ROWS),
+                _table(["axle", "x (m)", "load (N)", "load (kg)", "share"], axles,
+                       limit=MAX_ROWS),
+                f'<p class="note">{_e(WHEEL_RATE_SOURCE)}</p>']
+    out += [f"<p>{_e(s['text'])}</p>" for s in checks.plugin_summaries if s.get("text")]
     if checks.static:
         static = [[_e(s["link"]), _e(s["component"]),
                    _num(1000 * s["deflection"]) + (" mm" if s["unit"] == "m" else " mrad"),
                    _num(s["force"]), _num(s["implied_frequency_hz"], 3)]
                   for s in d["static_deflection"]]
-        out += ["<h3>Static deflection under 1 g</h3>",
+        out += ["<h3>Static deflection under 1 g (springs: compression positive)</h3>",
                 _table(["link", "component", "deflection", "force (N or N m)",
                         "implied frequency (Hz)"], static, left=(0, 1))]
     out += [f'<p class="note">warning: {_e(w)}</p>' for w in checks.warnings]

@@ -317,3 +317,12 @@ def test_a_wheel_pulling_on_the_road_and_a_loose_wheel_are_reported():
     warnings = "\n".join(check_model(model).warnings)
     assert f"the static load at rr ({loads['tyre_rr']:.0f} N) is negative" in warnings
     assert "wheel rate 0 at fl" in warnings
+
+
+def test_report_takes_mass_loads_and_rates_from_the_checks():
+    from builder import report
+    model = assemble(load_assembly(SEAT_CAR))
+    html = report._checks(model)
+    mass = model.assembly.mass_properties()[0]
+    assert f"{mass:.2f} kg; driver_occupant_x" in html and "counted once" in html
+    assert "Static loads under 1 g and ride rates" in html and "front" in html
