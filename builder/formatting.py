@@ -185,7 +185,7 @@ def text_table(headers: Sequence[str], rows: Sequence[Sequence[Any]], *,
         kinds = []
         for j in range(ncol):
             col = [row[j] for row in rows if j < len(row) and row[j] is not None]
-            kinds.append("r" if col and all(_is_number(v) for v in col) else "l")
+            kinds.append("r" if all(_is_number(v) for v in col) else "l")
         align = "".join(kinds)
     widths = [max([len(headers[j])] + [len(r[j]) for r in cells if j < len(r)])
               for j in range(ncol)]

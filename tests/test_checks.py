@@ -326,3 +326,24 @@ def test_report_takes_mass_loads_and_rates_from_the_checks():
     mass = model.assembly.mass_properties()[0]
     assert f"{mass:.2f} kg; driver_occupant_x" in html and "counted once" in html
     assert "Static loads under 1 g and ride rates" in html and "front" in html
+
+
+def test_a_body_standing_on_its_tyres_has_the_tyre_rate_as_ride_rate(write_yaml):
+    # A rigid vehicle on its tyres (no suspension): the ride rate is the tyre
+    # rate (a spring in series with an infinitely stiff one), the load its weight.
+    path = write_yaml("""
+format: 1
+name: a rigid cart on one tyre (invented)
+motion: bounce
+bodies:
+  cart: {mass: 40 kg, cg: [0, 0, 0.3], gyradius: {x: 1, y: 1, z: 1}}
+road:
+  c: {at: [0, 0, 0]}
+links:
+  t: {type: spring, a: cart, b: road.c, axis: z, stiffness: 200 kN/m}
+""")
+    checks = check_model(assemble(load_assembly(path)))
+    (corner,) = checks.corners.corners
+    assert corner.wheel_rate is None and corner.ride_rate == pytest.approx(200e3)
+    assert corner.load == pytest.approx(40 * GRAVITY, rel=1e-12)
+    assert not any("wheel rate 0" in w for w in checks.warnings)

@@ -44,6 +44,10 @@ __all__ = ["Corner", "Axle", "CornerFigures", "corner_figures", "AXLE_TOLERANCE"
 #: Road points whose x differ by at most this (m) belong to one axle (dual tyres).
 AXLE_TOLERANCE = 0.1
 
+#: A body on a tyre link heavier than this share of the model's mass is the
+#: vehicle standing on its tyres (no suspension), not a wheel.
+UNSPRUNG_SHARE = 0.5
+
 #: Where the wheel rate comes from, as printed beside the figures.
 WHEEL_RATE_SOURCE = ("wheel rate: the links between each wheel (the body on its tyre link) "
                      "and the rest of the model, all wheels raised together at the tyre, "
@@ -245,11 +249,24 @@ def corner_figures(model: LinearModel, q_static: np.ndarray | None = None,
             tyre[road] += float(np.sum(lm.stiffness * e * e))
     at = {r: model.assembly.road[r].at for r in by_road}
     axles, axle_of = _axles([(r, float(at[r][0])) for r in by_road], loads)
-    wheel, note = _wheel_rates(model, by_road)
+    # A body carrying most of the mass on its tyres is the vehicle itself, not a
+    # wheel: it has no suspension, and its ride rate is the tyre rate.
+    total = float(sum(b.mass for b in model.assembly.bodies.values()))
+    direct = {r for r, links in by_road.items()
+              if model.assembly.bodies[links[0][1]].mass > UNSPRUNG_SHARE * total}
+    wheel, note = _wheel_rates(model, {r: v for r, v in by_road.items() if r not in direct})
+    notes = [note] if note else []
+    if direct:
+        notes.append(f"no suspension at {', '.join(sorted(direct))}: the body on the tyre "
+                     "carries most of the mass, so the ride rate is the tyre rate")
     out = []
     for road, links in by_road.items():
-        kt, kw = tyre[road], wheel[road]
-        ride = None if kw is None else (1 / (1 / kw + 1 / kt) if kw > 0 and kt > 0 else 0.0)
+        kt, kw = tyre[road], wheel.get(road)
+        if road in direct:
+            ride: float | None = kt
+        else:
+            ride = None if kw is None else (1 / (1 / kw + 1 / kt) if kw > 0 and kt > 0
+                                            else 0.0)
         out.append(Corner(road, "+".join(n for n, _, _ in links), links[0][1],
                           float(at[road][0]), float(at[road][1]), axle_of[road], loads[road],
                           kt, kw, ride))
@@ -259,4 +276,4 @@ def corner_figures(model: LinearModel, q_static: np.ndarray | None = None,
     grounded = any(e.kind == "ground" for lk in model.assembly.links.values()
                    for e in (lk.a, lk.b))
     return CornerFigures(tuple(out), tuple(axles), float(sum(loads.values())), weight,
-                         grounded, (note,) if note else ())
+                         grounded, tuple(notes))
