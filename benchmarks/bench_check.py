@@ -30,7 +30,6 @@ from __future__ import annotations
 import argparse
 import re
 import sys
-import time
 from pathlib import Path
 
 import numpy as np
@@ -41,6 +40,8 @@ from threadpoolctl import threadpool_limits
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
+from bench_core import best_of  # noqa: E402  (same folder)
+
 from builder.analysis.checks import check_model  # noqa: E402
 from builder.assembly import Assembly, Body, End, Link, RoadPoint  # noqa: E402
 from builder.elements.bushing import bushing_props  # noqa: E402
@@ -49,15 +50,6 @@ from builder.linear import assemble  # noqa: E402
 from builder.load import load_text  # noqa: E402
 
 SCREEN = 60
-
-
-def best_of(fn, repeat: int = 3) -> float:
-    times = []
-    for _ in range(repeat):
-        t = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t)
-    return min(times)
 
 
 def flexible_car(segments: int) -> Assembly:
@@ -103,7 +95,7 @@ def frame(bodies: int) -> Assembly:
 def baseline(model) -> float:
     """One sparse LU of K and one solve (s): the floor of any static check."""
     f = model.static_load()
-    return best_of(lambda: splu(sp.csc_matrix(model.K)).solve(f))
+    return best_of(lambda: splu(sp.csc_matrix(model.K)).solve(f), 3)
 
 
 def case(name: str, asm: Assembly) -> dict[str, float]:
@@ -112,7 +104,7 @@ def case(name: str, asm: Assembly) -> dict[str, float]:
     out = {"dofs": model.n, "baseline": base}
     for label, threads in (("default", None), ("1 thread", 1)):
         with threadpool_limits(limits=threads):
-            out[label] = best_of(lambda: check_model(model))
+            out[label] = best_of(lambda: check_model(model), 3)
     lines = len(check_model(model).table().splitlines())
     out["lines"] = lines
     print(f"  {name}: {model.n} DOFs, check {out['default']:.2f} s (default threads), "
