@@ -40,7 +40,15 @@ MOTIONS: dict[str, tuple[str, ...]] = {
 
 @dataclass(frozen=True, eq=False)
 class Body:
-    """A rigid body: mass (kg), cg (m), inertia tensor about the cg (kg m^2), active DOFs."""
+    """A rigid body: mass (kg), cg (m), inertia tensor about the cg (kg m^2), active DOFs.
+
+    ``directional_part_of`` names the bodies that already hold this body's
+    mass: the body is a directional part of one physical mass that the model
+    splits over separate bodies (a seated occupant is a vertical chain of
+    segments, and one fore-aft body with the same mass). Its DOFs carry that
+    mass in their own directions, but the total mass, cg and inertia
+    (:meth:`Assembly.mass_properties`) count it once, in the named bodies.
+    """
 
     name: str
     mass: float
@@ -49,6 +57,7 @@ class Body:
     dofs: tuple[str, ...] = DOF_NAMES
     shape: dict[str, Any] | None = None
     where: Where = field(default_factory=Where)
+    directional_part_of: tuple[str, ...] = ()
 
     @property
     def mass_matrix(self) -> np.ndarray:
@@ -189,8 +198,22 @@ class Assembly:
         return g
 
     def mass_properties(self) -> tuple[float, np.ndarray, np.ndarray]:
-        """Total mass (kg), combined cg (m) and inertia about it (kg m^2)."""
-        return combined_mass_properties(list(self.bodies.values()))
+        """Total mass (kg), combined cg (m) and inertia about it (kg m^2).
+
+        Each physical mass counts once: a body that is a directional part of
+        others (:attr:`Body.directional_part_of`) is left out when any of those
+        is in the model. Every consumer of the model's total mass, cg or
+        inertia takes it from here.
+        """
+        parts = self.directional_parts()
+        return combined_mass_properties(
+            [b for b in self.bodies.values() if b.name not in parts])
+
+    def directional_parts(self) -> dict[str, tuple[str, ...]]:
+        """Bodies whose mass is counted in others: name -> the bodies that count it."""
+        return {b.name: tuple(r for r in b.directional_part_of if r in self.bodies)
+                for b in self.bodies.values()
+                if any(r in self.bodies for r in b.directional_part_of)}
 
     def unconnected_bodies(self) -> list[str]:
         """Bodies with no path through links to ground or a road point."""
@@ -207,9 +230,11 @@ def combined_mass_properties(bodies: list[Body]) -> tuple[float, np.ndarray, np.
     """Mass (kg), cg (m) and inertia about the combined cg (kg m^2) by the parallel-axis theorem.
 
     For each body, J_combined += J_body + m (|d|^2 I - d d^T) with d the
-    offset of its cg from the combined cg.
+    offset of its cg from the combined cg. No bodies give zero mass, cg and inertia.
     """
     mass = float(sum(b.mass for b in bodies))
+    if not bodies or mass <= 0:
+        return mass, np.zeros(3), np.zeros((3, 3))
     cg = sum(b.mass * b.cg for b in bodies) / mass
     inertia = np.zeros((3, 3))
     for b in bodies:

@@ -19,6 +19,7 @@ frequency domain only. Sensors read y = Sd q + Sv q' + Sa q'' + Dr r + Dv r'
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -126,7 +127,7 @@ class LinearModel:
         r = np.zeros(3) if at is None else np.asarray(at, float) - b.cg
         return cols, motion_map(r)[:, sel]
 
-    @property
+    @functools.cached_property
     def _body_start(self) -> dict[str, int]:
         starts, pos = {}, 0
         for b in self.assembly.bodies.values():

@@ -19,7 +19,11 @@ and optionally
   and ``to_dict()``, for ``lumpgraph plugin NAME FILE``;
 - ``tables(assembly, model, **options) -> list[(title, rows)]`` for the report;
 - ``configure_cli(parser)``: extra options of ``lumpgraph plugin NAME``;
-- ``label_mode(model, shape, energy) -> str | None``: mode labels in its words.
+- ``label_mode(model, shape, energy) -> str | None``: mode labels in its words;
+- ``check_summary(model, eigenvalues, shapes) -> list[dict]``: figures for
+  ``lumpgraph check``, each a dict with a one-line ``"text"`` and its values
+  (SI, JSON-ready); it gets the lowest modes the check computed (at least
+  :data:`builder.analysis.checks.PLUGIN_MODES` of them) and may solve more.
 
 Plugins are registered in the entry-point group ``lumpgraph.plugins``; the
 built-in ones in ``plugins/`` are registered the same way in this project's
@@ -61,6 +65,11 @@ _NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
 class Parameter:
     """A plugin parameter: name, unit dimension or kind, SI default (None: none), help.
 
+    ``unit`` is the unit the plugin states the parameter in (``"rpm"`` for an
+    engine speed); ``lumpgraph plugins`` shows the default in it, or, when it
+    is empty, in the engineering unit of the dimension
+    (:data:`builder.formatting.ENGINEERING_UNITS`). Values are SI either way.
+
     A parameter of kind ``"records"`` is a list of mappings whose own keys are
     declared in ``fields`` (Parameters again), e.g. the mounts of a powertrain;
     the core refuses unknown keys of every record and checks the dimension of
@@ -72,6 +81,7 @@ class Parameter:
     default: Any = None
     help: str = ""
     fields: tuple[Parameter, ...] = ()
+    unit: str = ""
 
 
 @dataclass(frozen=True, eq=False)
@@ -99,19 +109,11 @@ class Table:
                 "rows": [list(r) for r in self.rows], "notes": list(self.notes)}
 
     def text(self) -> str:
-        cells = [list(self.columns)] + [[_cell(v) for v in r] for r in self.rows]
-        widths = [max(len(str(r[i])) for r in cells) for i in range(len(self.columns))]
-        lines = [self.title]
-        for k, r in enumerate(cells):
-            lines.append("  ".join(str(v).rjust(w) for v, w in zip(r, widths)))
-            if k == 0:
-                lines.append("  ".join("-" * w for w in widths))
+        """Title, the table (columns sized by content, text left, numbers right) and notes."""
+        from .formatting import text_table
+        lines = [self.title, text_table(self.columns, self.rows, spec=".4g")]
         lines.extend(f"note: {n}" for n in self.notes)
         return "\n".join(lines)
-
-
-def _cell(v: Any) -> str:
-    return f"{v:.4g}" if isinstance(v, float) else str(v)
 
 
 def declaration_problem(obj: Any) -> str:

@@ -35,6 +35,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from .errors import InputError, LumpgraphError, Where
+from .formatting import count, percent
 
 if TYPE_CHECKING:
     from .assembly import Assembly
@@ -153,9 +154,10 @@ def _summary(assembly: Any, model: Any) -> str:
     bodies = [[_e(b.name), _num(b.mass), _vector(b.cg), _e(" ".join(b.dofs)),
                _e((b.shape or {}).get("kind", "equivalent box") if b.shape else "equivalent box")]
               for b in assembly.bodies.values()]
-    out = [f"<p>{len(assembly.bodies)} bodies, {len(assembly.links)} links, "
-           f"{len(assembly.road)} road points, {len(assembly.sensors)} sensors; "
-           f"model analysed: <b>{_e(model.name)}</b> with {len(model.dofs)} DOFs.</p>",
+    out = [f"<p>{count(len(assembly.bodies), 'body')}, {count(len(assembly.links), 'link')}, "
+           f"{count(len(assembly.road), 'road point')}, "
+           f"{count(len(assembly.sensors), 'sensor')}; model analysed: "
+           f"<b>{_e(model.name)}</b> with {count(len(model.dofs), 'DOF')}.</p>",
            "<h3>Bodies</h3>",
            _table(["body", "mass (kg)", "cg (m)", "DOFs", "drawn as"], bodies, left=(0, 3, 4),
                   limit=MAX_ROWS)]
@@ -208,7 +210,9 @@ def _checks(model: Any) -> str:
     d = checks.to_dict()
     inertia = np.asarray(checks.inertia)
     rows = [
-        ["total mass", f"{checks.total_mass:.2f} kg"],
+        ["total mass", f"{checks.total_mass:.2f} kg" + "".join(
+            f"; {part} ({checks.directional_mass[part]:.1f} kg) counted once, in "
+            f"{', '.join(holders)}" for part, holders in checks.directional_parts.items())],
         ["combined cg", _vector(checks.cg) + " m"],
         ["inertia about cg", f"xx {inertia[0, 0]:.1f}, yy {inertia[1, 1]:.1f}, "
                              f"zz {inertia[2, 2]:.1f} kg m^2"],
@@ -221,12 +225,30 @@ def _checks(model: Any) -> str:
         ["overall", "passed" if checks.ok else "NEEDS ATTENTION"],
     ]
     out = [_table(["check", "result"], [[_e(a), _e(b)] for a, b in rows], left=(0, 1))]
+    if checks.corners is not None:
+        from .analysis.corners import WHEEL_RATE_SOURCE
+        from .linear import GRAVITY
+        corners = [[_e(c.road), _e(c.axle), _e(c.link), _num(c.load), _num(c.load / GRAVITY),
+                    _num(c.tyre_rate / 1e3), _num(None if c.wheel_rate is None
+                                                  else c.wheel_rate / 1e3),
+                    _num(None if c.ride_rate is None else c.ride_rate / 1e3)]
+                   for c in checks.corners.corners]
+        axles = [[_e(a.name), _num(a.x), _num(a.load), _num(a.load / GRAVITY),
+                  _e(percent(a.share))] for a in checks.corners.axles]
+        out += ["<h3>Static loads under 1 g and ride rates</h3>",
+                _table(["road point", "axle", "link", "load (N)", "load (kg)", "tyre (kN/m)",
+                        "wheel (kN/m)", "ride (kN/m)"], corners, left=(0, 1, 2),
+                       limit=MAX_ROWS),
+                _table(["axle", "x (m)", "load (N)", "load (kg)", "share"], axles,
+                       limit=MAX_ROWS),
+                f'<p class="note">{_e(WHEEL_RATE_SOURCE)}</p>']
+    out += [f"<p>{_e(s['text'])}</p>" for s in checks.plugin_summaries if s.get("text")]
     if checks.static:
         static = [[_e(s["link"]), _e(s["component"]),
                    _num(1000 * s["deflection"]) + (" mm" if s["unit"] == "m" else " mrad"),
                    _num(s["force"]), _num(s["implied_frequency_hz"], 3)]
                   for s in d["static_deflection"]]
-        out += ["<h3>Static deflection under 1 g</h3>",
+        out += ["<h3>Static deflection under 1 g (springs: compression positive)</h3>",
                 _table(["link", "component", "deflection", "force (N or N m)",
                         "implied frequency (Hz)"], static, left=(0, 1))]
     out += [f'<p class="note">warning: {_e(w)}</p>' for w in checks.warnings]
@@ -235,7 +257,7 @@ def _checks(model: Any) -> str:
 
 def _energy_text(energy: dict[str, float], limit: float = 0.05) -> str:
     shares = sorted(energy.items(), key=lambda kv: -abs(kv[1]))
-    parts = [f"{_e(k)} {100 * v:.0f}%" for k, v in shares if abs(v) >= limit][:5]
+    parts = [f"{_e(k)} {percent(v, 0)}" for k, v in shares if abs(v) >= limit][:5]
     return ", ".join(parts) or "-"
 
 
@@ -265,8 +287,8 @@ def _ladder(model: Any) -> str:
         for m, k, c, e in zip(rung.modes.modes, rung.match, rung.mac, rung.error, strict=True):
             ff = ladder.full.modes[k - 1].frequency_hz if k else None
             rows.append([str(m.number), _num(m.frequency_hz), str(k or "-"), _num(ff),
-                         f"{c:.3f}", f"{100 * e:+.2f} %", _e(m.label)])
-        out += [f"<h3>Depth {_e(rung.depth)}: {len(rung.dofs)} DOFs "
+                         f"{c:.3f}", percent(e, 2, signed=True), _e(m.label)])
+        out += [f"<h3>Depth {_e(rung.depth)}: {count(len(rung.dofs), 'DOF')} "
                 f"({_e(', '.join(rung.dofs))})</h3>",
                 _table(["mode", "f (Hz)", "full mode", "full f (Hz)", "MAC", "error", "label"],
                        rows, left=(6,))]
@@ -446,7 +468,7 @@ def report_html(assembly: Assembly, model: LinearModel, *, sheet: int = 12, road
         f"<style>{_STYLE}</style></head><body><main>",
         f"<h1>{_e(title)}</h1>",
         f'<p class="sub">Review report by lumpgraph; source {_e(assembly.source or "-")}; '
-        f"model {_e(model.name)} ({len(model.dofs)} DOFs). SI units, ISO 8855 axes "
+        f"model {_e(model.name)} ({count(len(model.dofs), 'DOF')}). SI units, ISO 8855 axes "
         "(x forward, y left, z up).</p>",
         f'<div class="caution">{_e(CAUTION)}</div>',
         _section("Model summary", lambda: _summary(assembly, model)),

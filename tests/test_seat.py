@@ -166,9 +166,9 @@ def test_plugin_graph_reproduces_the_occupant_apparent_mass():
 
     H = road_frequency_response(model, f)[:, :, 0]
     accel = H[:, model.sensors.index(names.seat_z)]
-    # a coupling's force is positive in tension (upper end moving up): the seat
-    # pushes the occupant with minus that force.
-    force = -sum(H[:, model.sensors.index(n)] for n in links)
+    # a coupling's force is positive in compression (springs read so, whichever
+    # end is a): it is the force with which the seat pushes the occupant up.
+    force = sum(H[:, model.sensors.index(n)] for n in links)
     measured = occ.seat_mass + force / accel
     np.testing.assert_allclose(measured, apparent_mass(occ, f), rtol=1e-4)
 

@@ -16,6 +16,7 @@ import numpy as np
 
 from ..assembly import Assembly, Depth
 from ..errors import Where
+from ..formatting import count, percent
 from ..linear import LinearModel
 from ..reduce import reduce_to_depth
 from .modes import ModeSet, compute_modes, mac_matrix
@@ -56,18 +57,18 @@ class Ladder:
                 "depths": [r.to_dict() for r in self.rungs]}
 
     def table(self) -> str:
-        lines = [f"full model: {self.full.model.n} DOFs"
+        lines = [f"full model: {count(self.full.model.n, 'DOF')}"
                  + (" (depths proposed by lumpgraph: the file has none)" if self.proposed
                     else "")]
         for r in self.rungs:
             lines.append("")
-            lines.append(f"depth {r.depth}: {len(r.dofs)} DOFs ({', '.join(r.dofs)})")
+            lines.append(f"depth {r.depth}: {count(len(r.dofs), 'DOF')} ({', '.join(r.dofs)})")
             lines.append(f"  {'mode':>4} {'f (Hz)':>8} {'full':>5} {'f full':>8} {'MAC':>6} "
-                         f"{'error':>8}  label")
+                         f"{'error':>9}  label")
             for m, k, c, e in zip(r.modes.modes, r.match, r.mac, r.error):
                 ff = self.full.modes[k - 1].frequency_hz if k else float("nan")
                 lines.append(f"  {m.number:>4} {m.frequency_hz:8.3f} {k:>5} {ff:8.3f} "
-                             f"{c:6.3f} {100 * e:7.2f}%  {m.label}")
+                             f"{c:6.3f} {percent(e, 2, signed=True):>9}  {m.label}")
         return "\n".join(lines)
 
 

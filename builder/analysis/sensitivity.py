@@ -25,6 +25,9 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.linalg
 
+from ..formatting import text_table
+from ..quantities import parse_unit
+
 __all__ = ["FrequencySensitivities", "eigenvalue_derivatives", "frequency_sensitivities"]
 
 
@@ -66,7 +69,8 @@ class FrequencySensitivities:
     of each parameter; ``names`` and ``values`` (SI) of the parameters when
     known (``values`` None: relative sensitivities are not available);
     ``repeated`` (m,) True for modes whose frequency is repeated (derivative
-    not defined) and for rigid-body modes.
+    not defined) and for rigid-body modes. ``units`` (optional, one per
+    parameter): the engineering unit the table gives df/dp per (e.g. kN/m).
     """
 
     frequencies_hz: np.ndarray
@@ -74,6 +78,7 @@ class FrequencySensitivities:
     names: tuple[str, ...]
     values: np.ndarray | None = None
     repeated: np.ndarray | None = None
+    units: tuple[str, ...] = ()
 
     def relative(self) -> np.ndarray:
         """(p / f) df/dp, (nparams, m), dimensionless; NaN for rigid modes."""
@@ -102,9 +107,13 @@ class FrequencySensitivities:
             flag = ("  (repeated or rigid: derivative not defined)"
                     if self.repeated is not None and self.repeated[mode - 1] else "")
             lines.append(f"mode {mode}  {f:.4g} Hz{flag}")
-            lines.append(f"  {'parameter':<24} {'df/dp (Hz/SI unit)':>20} {'(p/f) df/dp':>12}")
+            rows = []
             for name, d, r in self.ranked(mode)[:top]:
-                lines.append(f"  {name:<24} {d:>20.6g} {r:>12.4f}")
+                unit = self.units[self.names.index(name)] if self.units else ""
+                per = f"Hz per {unit}" if unit else "Hz per SI unit"
+                rows.append([name, d * (parse_unit(unit)[0] if unit else 1.0), per, r])
+            lines.append(text_table(["parameter", "df/dp", "unit", "(p/f) df/dp"], rows,
+                                    spec=[".6g", ".6g", "", ".4f"], indent="  ", rule=False))
         return "\n".join(lines)
 
     def to_dict(self) -> dict:

@@ -31,15 +31,17 @@ import csv
 import io
 import math
 import os
+import re
 import sys
 import time
 from collections.abc import Callable, Iterator, Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any, Protocol, TextIO
 
 import numpy as np
 
 from ..errors import InputError, Where
+from ..formatting import engineering_unit_of, in_unit, text_table, unit_of_dimension
 from .sampling import REF_NOMINAL, REF_NONE, Design
 from .sensitivity import FrequencySensitivities, frequency_sensitivities
 from .tracking import batch_match
@@ -381,6 +383,45 @@ class SweepResult:
                 "rows": [[*map(float, self.values[i]), *map(float, self.results[i])]
                          for i in range(len(self))]}
 
+    def display_unit(self, name: str) -> tuple[str, float]:
+        """(engineering unit, SI value per unit) of a parameter, for text and plots:
+        ``N/m`` parameters print in kN/m, ``m/s`` in km/h (CSV and JSON stay SI)."""
+        si = self.units[self.names.index(name)] if self.units and name in self.names else ""
+        if not si or si in ("SI", "-"):
+            return si, 1.0
+        unit = engineering_unit_of(si)
+        try:
+            return unit, in_unit(1.0, unit) / in_unit(1.0, si)
+        except ValueError:
+            return si, 1.0
+
+    def heading(self, name: str) -> str:
+        """A column's heading with its unit: ``ks_front (kN/m)``, ``mode 1 (Hz)``."""
+        if name in self.names:
+            unit, _ = self.display_unit(name)
+            return f"{name} ({unit})" if unit else name
+        match = re.fullmatch(r"mode(\d+)_hz", name)
+        return f"mode {match.group(1)} (Hz)" if match else name
+
+    def table(self, rows: int = 40) -> str:
+        """The variants as text (parameters in engineering units), or for more than
+        ``rows`` variants the range, mean and spread of every column."""
+        scale = [self.display_unit(n)[1] for n in self.names]
+        heads = [self.heading(n) for n in (*self.names, *self.columns)]
+        values = self.values * np.array(scale) if self.names else self.values
+        if len(self) <= rows:
+            body = [[*map(float, values[i]), *map(float, self.results[i])]
+                    for i in range(len(self))]
+            return text_table(heads, body, spec=".6g", rule=False)
+        stats = []
+        for head, v in zip(heads, [*values.T, *self.results.T], strict=True):
+            v = v[np.isfinite(v)]
+            if v.size:
+                sd = float(v.std(ddof=1)) if v.size > 1 else 0.0
+                stats.append([head, float(v.min()), float(v.mean()), sd, float(v.max())])
+        return text_table(["column", "min", "mean", "sd", "max"], stats, spec=".6g",
+                          rule=False)
+
     def plot(self, path: str | os.PathLike[str], parameter: str | None = None) -> str:
         """Tracked results against one parameter (PNG at ``path``, matplotlib Agg).
 
@@ -394,7 +435,7 @@ class SweepResult:
         matplotlib.use("Agg")
         import matplotlib.pyplot as plt
         p = parameter or self.names[-1]
-        x = self.column(p)
+        x = self.column(p) * self.display_unit(p)[1]
         others = [j for j, n in enumerate(self.names) if n != p]
         keys = [tuple(row) for row in self.values[:, others]] if others else [()] * len(self)
         groups: dict[tuple, list[int]] = {}
@@ -405,12 +446,12 @@ class SweepResult:
         for g, rows in enumerate(groups.values()):
             rows = sorted(rows, key=lambda r: x[r])
             for c, col in enumerate(self.columns):
-                name = f"{col}: {self.labels[c]}" if c < len(self.labels) else col
+                short = re.sub(r"^mode(\d+)_hz$", r"mode \1", col)
+                name = f"{short}: {self.labels[c]}" if c < len(self.labels) else short
                 ax.plot(x[rows], self.results[rows, c], color=colours[c % len(colours)],
                         alpha=1.0 if len(groups) == 1 else 0.35, lw=1.6,
                         label=name if g == 0 else None)
-        unit = self.units[self.names.index(p)] if self.units else ""
-        ax.set_xlabel(f"{p} ({unit})" if unit else f"{p} (SI)")
+        ax.set_xlabel(self.heading(p) if self.display_unit(p)[0] else f"{p} (SI)")
         ax.set_ylabel("frequency (Hz)" if self.columns[0].endswith("_hz") else "result")
         ax.set_title("tracked modes (MAC)" if self.ranks is not None else "sweep")
         ax.grid(True, alpha=0.3)
@@ -434,12 +475,13 @@ class SweepResult:
         for ax in axes.flat[len(cols):]:
             ax.set_visible(False)
         for ax, c in zip(axes.flat, cols, strict=False):
-            v = self.column(c)
+            v = self.column(c) * (self.display_unit(c)[1] if c in self.names else 1.0)
             v = v[np.isfinite(v)]
             flat = v.size == 0 or np.ptp(v) <= 1e-12 * max(float(np.max(np.abs(v))), 1e-300)
             ax.hist(v, bins=1 if flat else bins, color="#4477aa")
-            ax.set_title(f"{c}: mean {np.mean(v):.4g}, sd {np.std(v, ddof=1):.3g}"
-                         if len(v) > 1 else c, fontsize=8)
+            ax.set_title(f"{self.heading(c)}: mean {np.mean(v):.4g}, sd "
+                         f"{np.std(v, ddof=1):.3g}" if len(v) > 1 else self.heading(c),
+                         fontsize=8)
             ax.tick_params(labelsize=7)
         fig.tight_layout()
         fig.savefig(path)
@@ -778,6 +820,7 @@ class TargetResult:
     success: bool
     message: str
     evaluations: int
+    units: dict[str, str] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
         return {"parameters": self.values, "targets": self.targets, "achieved": self.achieved,
@@ -786,7 +829,10 @@ class TargetResult:
 
     def text(self) -> str:
         lines = ["parameters found:"]
-        lines += [f"  {n:<20} {self.values[n]:.6g}" for n in self.names]
+        for n in self.names:
+            unit = self.units.get(n, "")
+            value = in_unit(self.values[n], unit) if unit else self.values[n]
+            lines.append(f"  {n:<20} {value:.6g}{' ' + unit if unit else ''}")
         lines.append("achieved:")
         for key, got in self.achieved.items():
             want = self.targets.get(key)
@@ -1024,7 +1070,8 @@ def file_sensitivities(path: str | os.PathLike[str], names: Sequence[str] | None
             raise InputError(f'changing "{n}" changes the model\'s DOFs', Where(field="--vary"))
         dKs.append((Kp - Km) / (2 * h))
         dMs.append((Mp - Mm) / (2 * h))
-    return frequency_sensitivities(K0, M0, dKs, dMs, names, [p0[n] for n in names])
+    sens = frequency_sensitivities(K0, M0, dKs, dMs, names, [p0[n] for n in names])
+    return replace(sens, units=tuple(unit_of_dimension(params[n].dim) for n in names))
 
 
 @dataclass(frozen=True)

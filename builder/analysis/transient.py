@@ -79,6 +79,7 @@ import scipy.linalg
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import InputError, Where
+from ..formatting import percent, text_table
 from . import comfort, road
 from .ride import sensor_weighting
 
@@ -551,9 +552,10 @@ def _result(model: Any, assembly: Any, rows: NDArray, t: NDArray, r: NDArray, y:
     static, least = _contact_loads(model, asm, rows, names, measures, y)
     if any(ratio < 0 for ratio in least.values()):
         lifted = ", ".join(n for n, ratio in least.items() if ratio < 0)
-        notes = [*notes, f"the load through {lifted} changes sign (the wheel would lift off); "
-                 "the linear model does not leave the road, so the response after that "
-                 "instant is not physical"]
+        notes = [*notes, f"lift-off: the load through {lifted} falls to zero (the wheel would lift "
+                 "off the road); the linear model cannot leave it and would pull the tyre onto "
+                 "the road instead, so its response after the first lift-off is not "
+                 "physical"]
     return TimeResponse(
         time_s=t, inputs=tuple(model.inputs), road_m=r, sensors=names, units=units,
         measures=measures, y=y, speed_m_s=float(v), event=dict(event),
@@ -673,6 +675,7 @@ class TimeResponse:
                 entry["static"] = self.static[name]
             if name in self.least_load_ratio:
                 entry["least_load_ratio"] = self.least_load_ratio[name]
+                entry["lift_off_s"] = self.lift_off_s(name)
             sensors[name] = entry
         out: dict[str, Any] = {
             "model": self.model_name, "description": self.description, "event": self.event,
@@ -700,30 +703,45 @@ class TimeResponse:
         if math.isfinite(self.speed_m_s):
             head += f" at {self.speed_m_s:.3g} m/s ({self.speed_m_s * 3.6:.3g} km/h)"
         head += (f", {self.time_s[-1] - self.time_s[0]:.3g} s at {self.rate_hz:g} Hz")
-        lines = [head, "",
-                 f"{'sensor':<20} {'measure':<13} {'peak':>11} {'max':>11} {'min':>11} "
-                 f"{'RMS':>11} {'unit':<8} {'VDV':>10}  weighting"]
         peak, mx, mn, rms = self.peak, self.maximum, self.minimum, self.rms
+        rows = []
         for name, unit, measure in zip(self.sensors, self.units, self.measures, strict=True):
             extra = ""
-            vdv = ""
+            vdv = None
             if name in self.vdv:
-                vdv = f"{self.vdv[name]:.4g}"
-                extra = (f"{self.weighting[name]}, {self._vdv_unit(name)}; weighted RMS "
-                         f"{self.weighted_rms[name]:.3g}, crest factor "
+                vdv = self.vdv[name]
+                extra = (f"{self.weighting[name]}, VDV in {self._vdv_unit(name)}; weighted "
+                         f"RMS {self.weighted_rms[name]:.3g}, crest factor "
                          f"{self.crest_factor[name]:.3g}")
             elif name in self.least_load_ratio:
-                extra = (f"static {self.static[name]:.4g} {unit}, least load "
-                         f"{100 * self.least_load_ratio[name]:.0f} % of static")
-            lines.append(f"{name:<20} {measure:<13} {peak[name]:>11.4g} {mx[name]:>11.4g} "
-                         f"{mn[name]:>11.4g} {rms[name]:>11.4g} {unit:<8} {vdv:>10}  "
-                         f"{extra}".rstrip())
+                extra = f"static {self.static[name]:.4g} {unit}, " + self._load_text(name)
+            rows.append([name, measure, unit, peak[name], mx[name], mn[name], rms[name], vdv,
+                         extra])
+        lines = [head, "", text_table(["sensor", "measure", "unit", "peak", "max", "min",
+                                       "RMS", "VDV", "weighting or contact load"], rows,
+                                      rule=False)]
         notes = list(self.notes)
         if self.vdv:
             notes.append("VDV (ISO 2631-1) suits shocks and crest factors above 9; it describes "
                          "a person only at a seat or floor point where one sits or stands")
         lines += [""] + [f"note: {n}" for n in notes] + [self.caution]
         return "\n".join(lines)
+
+    def lift_off_s(self, name: str) -> float | None:
+        """Time (s) at which the load through a road-contact force sensor first reverses
+        (the wheel would lift off), or None if it never does."""
+        s0 = self.static.get(name)
+        if not s0:
+            return None
+        below = np.flatnonzero((s0 + self.history(name)) / s0 < 0)
+        return float(self.time_s[below[0]]) if below.size else None
+
+    def _load_text(self, name: str) -> str:
+        ratio = self.least_load_ratio[name]
+        lift = self.lift_off_s(name)
+        if lift is None:
+            return f"least load {percent(ratio, 0)} of static"
+        return f"lifts off at {lift:.3f} s (see the note)"
 
     def plot(self, path: str | None = None) -> Any:
         """Time histories: road inputs, then one panel per sensor unit. Returns the figure;

@@ -15,6 +15,9 @@ HELP = "load a file and print the model checks"
 def configure(parser: argparse.ArgumentParser) -> None:
     add_file_option(parser)
     parser.add_argument("--json", action="store_true", help="print the checks as JSON")
+    parser.add_argument("--detail", action="store_true",
+                        help="list every link, road point and warning (the summary shows "
+                             "the largest)")
 
 
 def run(args: argparse.Namespace) -> int:
@@ -22,5 +25,5 @@ def run(args: argparse.Namespace) -> int:
     if args.json:
         print_json(checks)
     else:
-        print(checks.table())
+        print(checks.table(detail=args.detail))
     return 0

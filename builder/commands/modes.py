@@ -6,6 +6,7 @@ import argparse
 import sys
 
 from ..analysis.modes import compute_modes
+from ..formatting import count
 from ..io import csv_text
 from ._common import add_model_options, load_model, print_json
 
@@ -29,6 +30,6 @@ def run(args: argparse.Namespace) -> int:
     elif args.csv:
         sys.stdout.write(csv_text(modes.csv_rows()))
     else:
-        print(f"{model.name}: {model.n} DOFs")
+        print(f"{model.name}: {count(model.n, 'DOF')}")
         print(modes.table())
     return 0

@@ -4,7 +4,9 @@ from __future__ import annotations
 
 import argparse
 
+from ..formatting import number, quantity_text
 from ..plugin import installed_plugins
+from ..quantities import DIMENSIONS
 from ._common import print_json
 
 HELP = "list the installed plugins and their parameters"
@@ -14,8 +16,17 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--json", action="store_true", help="print the list as JSON")
 
 
-def _default(value: object) -> str:
-    return "none" if value is None else repr(value) if isinstance(value, str) else f"{value}"
+def _default(q: object) -> str:
+    """The default in the unit the plugin declares (else the dimension's engineering one)."""
+    value = getattr(q, "default", None)
+    dimension = getattr(q, "dimension", "")
+    if isinstance(value, int | float) and not isinstance(value, bool) \
+            and dimension in DIMENSIONS:
+        return quantity_text(value, dimension, getattr(q, "unit", "") or None)
+    if isinstance(value, tuple | list):
+        return "[" + ", ".join(number(v, ".4g") if isinstance(v, int | float) else str(v)
+                               for v in value) + "]"
+    return quantity_text(value)
 
 
 def _declared(q: object) -> dict[str, object]:
@@ -23,7 +34,7 @@ def _declared(q: object) -> dict[str, object]:
     out: dict[str, object] = {
         "name": q.name, "dimension": q.dimension,
         "default": d if isinstance(d, int | float | str | type(None)) else str(d),
-        "help": q.help}
+        "default_text": _default(q), "help": q.help}
     fields = getattr(q, "fields", ()) or ()
     if fields:
         out["fields"] = [_declared(f) for f in fields]
@@ -33,7 +44,7 @@ def _declared(q: object) -> dict[str, object]:
 def _print_parameters(params: object, indent: str) -> None:
     width = max((len(q.name) for q in params), default=0)
     for q in params:
-        print(f"{indent}{q.name:<{width}}  [{q.dimension}; default {_default(q.default)}] "
+        print(f"{indent}{q.name:<{width}}  [{q.dimension}; default {_default(q)}] "
               f"{q.help}")
         fields = getattr(q, "fields", ()) or ()
         if fields:

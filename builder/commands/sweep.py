@@ -255,24 +255,7 @@ def _with_labels(result: Any, design: Any, args: argparse.Namespace, params: dic
 
 
 def _print_table(result: Any) -> None:
-    import numpy as np
-    heads = [f"{n} ({u})" if u else n for n, u in zip(result.names, result.units or
-                                                         [""] * len(result.names),
-                                                         strict=True)]
-    cols = list(result.columns)
-    if len(result) <= 40:
-        print("  ".join(f"{h:>14}" for h in [*heads, *cols]))
-        for i in range(len(result)):
-            row = [*result.values[i], *result.results[i]]
-            print("  ".join(f"{v:>14.6g}" for v in row))
-        return
-    print(f"{'column':>22} {'min':>12} {'mean':>12} {'sd':>12} {'max':>12}")
-    for name, v in [*zip(heads, result.values.T, strict=True),
-                    *zip(cols, result.results.T, strict=True)]:
-        v = v[np.isfinite(v)]
-        if v.size:
-            sd = v.std(ddof=1) if v.size > 1 else 0.0
-            print(f"{name:>22} {v.min():>12.6g} {v.mean():>12.6g} {sd:>12.4g} {v.max():>12.6g}")
+    print(result.table())
 
 
 def _targets(args: argparse.Namespace, params: dict, keep: tuple[str, ...]) -> int:
@@ -315,5 +298,9 @@ def _targets(args: argparse.Namespace, params: dict, keep: tuple[str, ...]) -> i
     if args.json:
         print_json(res)
     else:
-        print(res.text())
+        import dataclasses
+
+        from ..formatting import unit_of_dimension
+        print(dataclasses.replace(res, units={n: unit_of_dimension(params[n].dim)
+                                              for n in res.names}).text())
     return 0

@@ -6,6 +6,12 @@ that line nearest to b's given point, so the two end forces are collinear
 and the element can carry no moment it cannot react; with the default axis
 that is b's point itself. The tool warns when b's point lies more than
 1 mm off the line.
+
+Sign: the deflection (and the force k times it) is positive in compression,
+the two ends moving towards each other along the line, whichever end is
+named a. Where the two ends sit at one point of the line (a zero-length
+spring, such as a seat cushion), end b counts as lying on the side of a that
+``axis`` points to: positive is end b moving against ``axis`` relative to a.
 """
 
 from __future__ import annotations
@@ -60,11 +66,14 @@ class Spring:
     def matrices(self, link: Any) -> ElementMatrices:
         p = link.props
         n = p["axis"]
-        D = np.zeros((1, 12))
-        D[0, 0:3], D[0, 6:9] = -n, n
         pa = np.asarray(link.a.at, float)
+        pb = _line_point(pa, n, np.asarray(link.b.at, float))
+        # compression positive: n . (u_b - u_a) when b lies against n from a, else its negative
+        sign = 1.0 if float(n @ (pb - pa)) < -1e-9 else -1.0
+        D = np.zeros((1, 12))
+        D[0, 0:3], D[0, 6:9] = -sign * n, sign * n
         return ElementMatrices.from_components(
-            (pa, _line_point(pa, n, np.asarray(link.b.at, float))), D,
+            (pa, pb), D,
             np.array([p["stiffness"]]), np.array([p["damping"]]), p["loss_factor"],
             ("axial",), ("m",))
 

@@ -21,7 +21,16 @@ Layout (all names start with the plugin block's ``name`` and ``_``):
   cushion and backrest stiffness and damping (``NAME_cushion_x``). The
   published occupant models are vertical only, so in fore-aft the person is
   one rigid mass on the cushion. The vertical and fore-aft occupant bodies
-  share no DOF, so no mass is counted twice in any direction.
+  share no DOF, so no mass is counted twice in any direction; the fore-aft
+  body is marked as a directional part of the vertical ones
+  (``Body.directional_part_of``), so that the model's total mass, cg and
+  inertia count the person once.
+
+Signs: every spring here reads positive in compression (cushion, backrest
+and occupant couplings, like the suspension and tyre springs of a vehicle
+file), and the rail bushings have the seat frame, the part they carry, at
+end a, as an engine mount has the engine, so that their vertical deflection
+under the seat's weight is positive too.
 
 Sensors: ``NAME_seat_z`` and ``NAME_seat_x`` (seat surface accelerations,
 the latter that of the occupant's fore-aft mass, which sits on it),
@@ -120,12 +129,12 @@ def seat_names(spec: SeatSpec) -> SeatNames:
 
 
 def _point_body(name: str, mass: float, cg: np.ndarray, dofs: tuple[str, ...],
-                radius: float, where: Where) -> Body:
+                radius: float, where: Where, part_of: tuple[str, ...] = ()) -> Body:
     # A compact body: inertia of a sphere of the given radius (only its active
     # translations matter, the tensor just has to be physical).
     inertia = 0.4 * mass * radius**2 * np.eye(3)
     return Body(name, float(mass), np.asarray(cg, dtype=float), inertia, dofs,
-                {"kind": "box", "size": [2 * radius] * 3}, where)
+                {"kind": "box", "size": [2 * radius] * 3}, where, part_of)
 
 
 def frame_dofs(rails) -> tuple[str, ...]:
@@ -194,8 +203,11 @@ def add_seat(assembly: Assembly, spec: SeatSpec, where: Where | None = None) -> 
         bodies[names.segments[s.name]] = _point_body(names.segments[s.name], s.mass,
                                                      seg_cg[s.name], ("z",), 0.1, where)
     occupant_cg = top + sum(s.mass * s.height for s in model.segments) / model.seated_mass * _Z
+    # The same person as the vertical chain (segments and the seat-moving part
+    # on the surface), in fore-aft: counted once, there.
     bodies[names.occupant_x] = _point_body(names.occupant_x, model.seated_mass, occupant_cg,
-                                           ("x",), 0.1, where)
+                                           ("x",), 0.1, where,
+                                           (names.surface, *names.segments.values()))
 
     rails = np.asarray(spec.rails, dtype=float)
     share = 1.0 / len(rails)
@@ -203,8 +215,8 @@ def add_seat(assembly: Assembly, spec: SeatSpec, where: Where | None = None) -> 
         k = np.array([spec.rail_stiffness_x, 0, spec.rail_stiffness_z, 0, 0, 0]) * share
         c = np.array([spec.rail_damping_x, 0, spec.rail_damping_z, 0, 0, 0]) * share
         links[f"{spec.name}_rail_{i}"] = Link(
-            f"{spec.name}_rail_{i}", "bushing", _end(assembly.body_at(spec.body, r), r),
-            _end(names.frame, r),
+            f"{spec.name}_rail_{i}", "bushing", _end(names.frame, r),
+            _end(assembly.body_at(spec.body, r), r),
             bushing_props(np.eye(3), k, c), where)
     links[names.cushion] = Link(
         names.cushion, "spring", _end(names.frame, top), _end(names.surface, top),

@@ -85,6 +85,11 @@ class SplitBodyPlugin:
         return [(title, Table(title, ("mode", "f (Hz)", "label", "body elastic"), rows,
                               result.notes))]
 
+    def check_summary(self, model: Any, eigenvalues: Any, shapes: Any) -> list[dict[str, Any]]:
+        """For ``lumpgraph check``: each split body's first torsion and bending (Hz)."""
+        from .summary import check_summary
+        return check_summary(model, eigenvalues, shapes)
+
     def label_mode(self, model: Any, shape: Any, energy: Any) -> str | None:
         """A label for modes in which a split body takes part (else None)."""
         from .labels import flexible_body_label
