@@ -75,9 +75,9 @@ def test_both_orders_give_the_same_model(extra):
 def test_seat_rails_go_to_the_segment_holding_each_rail():
     asm = load_text(_flexible(SEAT, first=False), "car.yaml")
     # segments of 0.38 m from x = -3.0 m: x = -1.05 lies in body_s06, x = -1.45 in body_s05
-    ends = {asm.links[f"driver_rail_{i}"].a.node for i in (1, 2)}
+    ends = {asm.links[f"driver_rail_{i}"].b.node for i in (1, 2)}   # frame at a, body at b
     assert ends == {"body_s06"}
-    assert {asm.links[f"driver_rail_{i}"].a.node for i in (3, 4)} == {"body_s05"}
+    assert {asm.links[f"driver_rail_{i}"].b.node for i in (3, 4)} == {"body_s05"}
     assert asm.sensors["driver_floor_z"].target == "body_s05"     # mean rail x = -1.25
 
 
