@@ -31,8 +31,9 @@ from .assembly import Assembly
 from .elements import LINK_TYPES, ComponentBatch, ElementMatrices
 from .errors import InputError, Where
 from .kinematics import DOF_NAMES, motion_map, motion_map_all
+from .plausibility import require_plausible
 
-__all__ = ["LinearModel", "LinkMap", "assemble", "GRAVITY"]
+__all__ = ["LinearModel", "LinkMap", "assemble", "link_diagonal_stiffness", "GRAVITY"]
 
 GRAVITY = 9.80665  # m/s^2, standard gravity
 
@@ -77,6 +78,7 @@ class LinearModel:
     expansion: Any = None
     expansion_input: Any = None
     name: str = ""
+    warnings: tuple[str, ...] = ()
 
     @property
     def n(self) -> int:
@@ -378,7 +380,11 @@ def assemble(assembly: Assembly) -> LinearModel:
         Sd=sp.csr_array((0, n)), Sv=sp.csr_array((0, n)), Sa=sp.csr_array((0, n)),
         Sh=sp.csr_array((0, n)), Dr=sp.csr_array((0, nr)), Dv=sp.csr_array((0, nr)),
         Dh=sp.csr_array((0, nr)), assembly=assembly, links=links, name=assembly.name)
-    return _with_sensors(base, assembly)
+    warnings = require_plausible(base)    # hopeless sizes: InputError naming the value
+    if warnings:
+        base = replace(base, warnings=warnings,
+                       assembly=assembly.replace(warnings=assembly.warnings + warnings))
+    return _with_sensors(base, base.assembly)
 
 
 class _ElementSum:
@@ -442,6 +448,20 @@ class _LinkMaps(Mapping):
             self._cache[name] = self._build(name)
         return self._cache[name]
 
+    def diagonal_shares(self) -> sp.csr_array:
+        """(links, n): each link's share of the stiffness diagonal, sum_c k_c D_cj^2."""
+        index = {name: i for i, name in enumerate(self._order)}
+        owner = np.zeros(self._G.shape[0], dtype=int)
+        for name, (start, m, *_rest) in self._rows.items():
+            owner[start:start + m] = index[name]
+        squares = sp.diags_array(self._k) @ self._G.multiply(self._G)
+        member = sp.csr_array((np.ones(len(owner)), (owner, np.arange(len(owner)))),
+                              shape=(len(self._order), self._G.shape[0]))
+        out = sp.lil_array(member @ squares)
+        for name, lm in self._eager.items():
+            out[[index[name]], lm.cols] = (lm.stiffness[:, None] * lm.Dq ** 2).sum(axis=0)
+        return sp.csr_array(out)
+
     def _build(self, name: str) -> LinkMap:
         start, m, eta, components, units = self._rows[name]
         cols, Dq = _dense_rows(self._G, start, m)
@@ -449,6 +469,20 @@ class _LinkMaps(Mapping):
         rows = slice(start, start + m)
         return LinkMap(cols, Dq, roads, Dr, self._k[rows].copy(), self._c[rows].copy(), eta,
                        components, units, self._n, self._nr)
+
+
+def link_diagonal_stiffness(model: LinearModel) -> tuple[list[str], sp.csr_array]:
+    """Each link's share of the stiffness diagonal of an unreduced model,
+    sum_c k_c D_cj^2 (N/m, N m/rad), as (link names, (links, n) sparse array)."""
+    links = model.links
+    names = list(links)
+    if isinstance(links, _LinkMaps):
+        return names, links.diagonal_shares()
+    out = sp.lil_array((len(names), model.n))
+    for i, name in enumerate(names):
+        lm = links[name]
+        out[[i], lm.cols] = (lm.stiffness[:, None] * lm.Dq ** 2).sum(axis=0)
+    return names, sp.csr_array(out)
 
 
 def _dense_rows(A: sp.csr_array, start: int, m: int) -> tuple[np.ndarray, np.ndarray]:

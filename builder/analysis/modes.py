@@ -41,9 +41,11 @@ __all__ = ["Mode", "ModeSet", "compute_modes", "mac", "mac_matrix", "label_mode"
 DEFAULT_COUNT = 20
 
 #: A mode is zero-frequency (rigid-body or mechanism) when omega^2 is below this
-#: fraction of the largest K_ii / M_ii of the model: far above round-off
-#: (about 1e-16 of it) and far below any physical mode.
-RIGID_TOLERANCE = 1e-11
+#: fraction of the largest K_ii / M_ii of the model: about 500 times the
+#: round-off of the eigenvalues (rigid-body modes come out near 1e-16 of it),
+#: so that a genuine slow mode next to one very stiff link is not taken for
+#: rigid motion (builder.plausibility warns about such links).
+RIGID_TOLERANCE = 1e-13
 
 
 
@@ -187,7 +189,10 @@ def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
             or label_mode(full, full_shapes[:, i], full_energy[:, i], context))
         modes.append(Mode(i + 1, float(omega[i] / (2 * math.pi)), zeta, fd, label,
                           shapes[:, i].copy(), energy, bool(rigid[i]), over, roots))
-    notes = []
+    root = model
+    while root.parent is not None:
+        root = root.parent
+    notes = [f"warning: {w}" for w in root.warnings]
     nr = int(rigid.sum())
     if nr:
         notes.append(_rigid_note(model, nr))
@@ -201,11 +206,17 @@ def zero_frequency(model: LinearModel, eigenvalues: np.ndarray) -> np.ndarray:
     """Which eigenvalues (omega^2, rad^2/s^2) of ``model`` are zero-frequency modes:
     below :data:`RIGID_TOLERANCE` times the largest K_jj / M_jj (the round-off
     scale of the eigenvalues)."""
+    return np.asarray(eigenvalues) < RIGID_TOLERANCE * max(_stiffness_scale(model)[0], 1e-300)
+
+
+def _stiffness_scale(model: LinearModel) -> tuple[float, int]:
+    """The largest K_jj / M_jj (rad^2/s^2) and its DOF index."""
     kd = np.abs(model.K.diagonal())
     md = np.abs(model.M.diagonal())
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        scale = float(np.max(np.where(md > 0, kd / np.where(md > 0, md, 1.0), 0.0)))
-    return np.asarray(eigenvalues) < RIGID_TOLERANCE * max(scale, 1e-300)
+        ratio = np.where(md > 0, kd / np.where(md > 0, md, 1.0), 0.0)
+    j = int(np.argmax(ratio)) if ratio.size else 0
+    return (float(ratio[j]) if ratio.size else 0.0), j
 
 
 def check_matrices(model: LinearModel) -> None:
@@ -232,8 +243,15 @@ def _rigid_note(model: LinearModel, count: int) -> str:
         any(lk.a.kind != "body" or lk.b.kind != "body"
             for lk in model.assembly.links.values()))
     what = "mechanism (unrestrained) modes" if anchored else "rigid-body modes"
-    return (f"{count} zero-frequency {what}: the model can move without deforming any link"
+    text = (f"{count} zero-frequency {what}: the model can move without deforming any link"
             + ("; check for a missing link or a DOF without stiffness" if anchored else ""))
+    scale, j = _stiffness_scale(model)
+    resolution = math.sqrt(RIGID_TOLERANCE * scale) / (2 * math.pi)
+    if resolution > 0.01:
+        text += (f" (here modes below {resolution:.2g} Hz cannot be told from zero in double "
+                 f"precision, because {model.dofs[j]} is so stiff for its mass: "
+                 f"{math.sqrt(scale) / (2 * math.pi):.3g} Hz)")
+    return text
 
 
 def _damping_notes(modes: list[Mode], damped: DampedModes, count: int, n: int) -> list[str]:

@@ -58,7 +58,8 @@ class Bushing:
         eta = fields["loss_factor"].quantity("dimensionless", parameters, "nonnegative") \
             if "loss_factor" in fields else 0.0
         props = bushing_props(frame, k, c, eta)
-        gap = float(np.linalg.norm(np.asarray(a.at) - np.asarray(b.at)))
+        with np.errstate(over="ignore", invalid="ignore"):
+            gap = float(np.linalg.norm(np.asarray(a.at) - np.asarray(b.at)))
         if gap > 1e-3:
             props["warning"] = (f"{where.prefix()}: the ends are {gap * 1000:.0f} mm apart; "
                                 "the bushing acts at end a's point")
