@@ -6,12 +6,12 @@ from __future__ import annotations
 import math
 
 import pytest
+from conftest import ASSEMBLIES
 
 from builder.analysis.modes import compute_modes
 from builder.errors import InputError
 from builder.linear import assemble
 from builder.load import load_text
-from conftest import ASSEMBLIES
 
 CAR = (ASSEMBLIES / "compact_car.yaml").read_text()
 
