@@ -151,3 +151,18 @@ def test_projection_on_the_lowest_modes_states_its_error():
             continue
         actual = abs(a[3][0] - b[3][0]) / abs(b[3][0])
         assert actual <= part.errors[k] < 100 * actual + 1e-12, k
+
+
+def test_assignment_matches_scipy_linear_sum_assignment():
+    # Independent library: scipy.optimize.linear_sum_assignment gives the least
+    # total cost; the pairing's own assignment must reach the same total.
+    from builder.analysis.damped import hungarian
+    rng = np.random.default_rng(7)
+    for trial in range(200):
+        p = int(rng.integers(1, 10))
+        q = p + int(rng.integers(0, 4))
+        cost = rng.random((p, q)) if trial % 2 else rng.integers(0, 3, (p, q)).astype(float)
+        rows, cols = scipy.optimize.linear_sum_assignment(cost)
+        ours = hungarian(cost)
+        assert len(set(ours)) == p and min(ours) >= 0
+        assert cost[np.arange(p), ours].sum() == pytest.approx(cost[rows, cols].sum(), abs=1e-12)

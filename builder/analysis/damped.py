@@ -22,12 +22,15 @@ No eigensolve of the whole state space is needed, let alone one per mode:
    modes' own frequencies (``Hr_jk / sqrt(w_j w_k)``), gives its roots, and
    the cluster's modes are paired with them one-to-one by MAC (an underdamped
    mode takes one conjugate pair, an overdamped mode two real roots).
-3. Each complex root is refined by nonlinear inverse iteration with the
-   Rayleigh functional (``|s|`` updated every step) in the subspace of its
-   cluster and the other modes it couples to (components above
-   :data:`SUBSPACE_TOLERANCE`). The first-order effect of the modes left out
-   is estimated (Schur complement), as is, when only the lowest modes of a
-   large model were computed, the coupling to the modes above them.
+3. The first-order change of each complex root from the modes outside its
+   cluster (a Schur complement) is computed for all roots at once. A root
+   that they change by less than :data:`SUBSPACE_TOLERANCE`, in a cluster of
+   one mode or without loss factors, stands as it is; any other is refined by
+   nonlinear inverse iteration with the Rayleigh functional (``|s|`` updated
+   every step) in the subspace of its cluster and the modes with a share of
+   the change. What the subspace leaves out is estimated the same way, as
+   is, when only the lowest modes of a large model were computed, the
+   coupling to the modes above them.
 
 Repeated roots of distinct modes stay distinct; should two modes' refined
 roots ever be the same root (same value and shape), the clustering is redone
@@ -50,10 +53,12 @@ __all__ = ["DampedModes", "damped_modes", "CLUSTER_COUPLING", "SUBSPACE_TOLERANC
 #: Modes whose damping-induced mixing |s c_jk / (s^2 + c_kk s + w_k^2)| exceeds
 #: this are solved together (one small state-space eigensolve per cluster).
 CLUSTER_COUPLING = 0.05
-#: Modes whose first-order component in a root's vector exceeds this (relative)
-#: join the subspace in which that root is refined.
-SUBSPACE_TOLERANCE = 1e-9
+#: A root whose modes outside its cluster change it, to first order, by less
+#: than this (relative) in all is kept as its cluster gives it; otherwise it is
+#: refined in a subspace with every mode whose share exceeds 1 % of this.
+SUBSPACE_TOLERANCE = 1e-12
 _SUBSPACE_CAP = 64          # at most this many extra modes per refined root
+_ONE_CLUSTER = 40           # up to this many modes form a single cluster
 _MAX_ITERATIONS = 60
 _REAL_TOLERANCE = 1e-9      # |Im s| <= this * |s|: a real root
 
@@ -166,13 +171,62 @@ class _Modal:
     def solve(self, threshold: float) -> list[_Slot | None]:
         m = len(self.lam)
         slots: list[_Slot | None] = [None] * m
-        for idx in _components(self.coupling() > threshold):
+        sizes = np.zeros(m, dtype=int)
+        # A few modes are solved as one cluster: one small eigensolve, exact without
+        # loss factors; larger sets split into clusters of strongly coupled modes.
+        clusters = [np.arange(m)] if m <= _ONE_CLUSTER else \
+            _components(self.coupling() > threshold)
+        for idx in clusters:
+            sizes[idx] = len(idx)
             for i, slot in zip(idx, self._cluster(idx)):
                 slots[i] = slot
-        for slot in slots:
-            if slot is not None and slot.vector is not None:
-                self._refine(slot)
+        complex_slots = [(i, sl) for i, sl in enumerate(slots)
+                         if sl is not None and sl.vector is not None]
+        if not complex_slots:
+            return slots
+        shares, y = self._shares([sl for _, sl in complex_slots])
+        refined = []
+        for j, (i, slot) in enumerate(complex_slots):
+            total = float(shares[:, j].sum())
+            if total <= SUBSPACE_TOLERANCE and (not self.has_h or sizes[i] == 1):
+                slot.error = total            # decoupled enough: the cluster root stands
+                continue
+            keep = np.flatnonzero(shares[:, j] > 0.01 * SUBSPACE_TOLERANCE)
+            keep = keep[np.argsort(-shares[keep, j])][:_SUBSPACE_CAP]
+            if self._refine(slot, keep, y[keep, j]):
+                refined.append(slot)
+        if refined:   # what each refined root's subspace leaves out, to first order
+            left, _ = self._shares(refined)
+            for j, slot in enumerate(refined):
+                slot.error = float(left[:, j].sum())
         return slots
+
+    def _shares(self, slots: list[_Slot]) -> tuple[np.ndarray, np.ndarray]:
+        """For each complex root (column) and each mode outside its cluster (row): the
+        first-order relative change of the root from that mode, |r_k^2 / T_kk| /
+        |x^T T'(s) x| / |s| (a Schur complement), and the mode's first-order
+        component y_k = -r_k / T_kk, where r_k = s (C(|s|) x)_k."""
+        m = len(self.lam)
+        x = np.zeros((m, len(slots)), dtype=complex)
+        inside = np.zeros((m, len(slots)), dtype=bool)
+        for j, sl in enumerate(slots):
+            x[sl.index, j] = sl.vector
+            inside[sl.index, j] = True
+        s = np.array([sl.roots[0] for sl in slots])
+        w = np.abs(s)
+        cx = self.cr @ x
+        d = np.diag(self.cr)[:, None]
+        if self.has_h:
+            cx = cx + (self.hr @ x) / w
+            d = d + np.diag(self.hr)[:, None] / w
+        r = s * cx
+        t = s * s + s * d + self.lam[:, None]
+        dt = np.sum(x * (2 * s * x + cx), axis=0)
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            y = np.where(t != 0, -r / np.where(t != 0, t, 1.0), 0.0)
+            shares = np.abs(r * y) / (np.abs(dt) * w)
+        shares = np.where(inside, 0.0, np.nan_to_num(shares, nan=0.0, posinf=np.inf))
+        return shares, np.where(inside, 0.0, y)
 
     def _cluster(self, idx: np.ndarray) -> list[_Slot | None]:
         p = len(idx)
@@ -185,7 +239,10 @@ class _Modal:
         norms = np.sum(np.abs(x) ** 2, axis=0)
         mac = np.abs(x) ** 2 / np.where(norms > 0, norms, 1.0)   # (mode, root)
         groups = _root_groups(s, x)
-        score = np.array([[mac[j, list(g)].mean() for g in groups] for j in range(p)])
+        weights = np.zeros((len(s), len(groups)))
+        for k, g in enumerate(groups):
+            weights[list(g), k] = 1.0 / len(g)
+        score = mac @ weights                                      # (mode, group)
         chosen = _assignment(score)
         out: list[_Slot | None] = []
         for j in range(p):
@@ -202,41 +259,20 @@ class _Modal:
         c = self.cr[np.ix_(rows, cols)]
         return c + self.hr[np.ix_(rows, cols)] / w if self.has_h else c
 
-    def _refine(self, slot: _Slot) -> None:
+    def _refine(self, slot: _Slot, extra: np.ndarray, y: np.ndarray) -> bool:
+        """Iterate a cluster root in the subspace of its cluster and the modes ``extra``
+        (first-order components ``y`` as the start); False if it did not converge."""
         s = slot.roots[0]
-        idx, x0 = slot.index, slot.vector
-        m = len(self.lam)
-        outside = np.setdiff1d(np.arange(m), idx)
-        sub = idx
-        x = x0
-        if len(outside):
-            y = self._first_order(s, idx, x0, outside)
-            rel = np.abs(y) / np.linalg.norm(x0)
-            keep = np.flatnonzero(rel > SUBSPACE_TOLERANCE)
-            keep = keep[np.argsort(-rel[keep])][:_SUBSPACE_CAP]
-            sub = np.concatenate([idx, outside[keep]])
-            x = np.concatenate([x0, y[keep]])
+        sub = np.concatenate([slot.index, extra])
+        x = np.concatenate([slot.vector, y])
         s_new, x_new, ok = self._iterate(s, sub, x)
         if not ok:   # keep the cluster's root; its distance to the last iterate is the error
             slot.error = max(slot.error, abs(s_new - s) / abs(s))
-            return
+            return False
         order = np.argsort(sub)
         slot.roots = (s_new,)
         slot.index, slot.vector = sub[order], x_new[order]
-        slot.error = self._left_out(s_new, slot.index, slot.vector)
-
-    def _first_order(self, s: complex, idx, x, rows) -> np.ndarray:
-        """First-order components of modes ``rows`` in a root (s, x over idx)."""
-        w = abs(s)
-        r = s * (self._c(rows, idx, w) @ x)
-        t = s * s + s * self._diag_c(rows, w) + self.lam[rows]
-        with np.errstate(divide="ignore", invalid="ignore"):
-            y = np.where(t != 0, -r / np.where(t != 0, t, 1.0), 0.0)
-        return y
-
-    def _diag_c(self, rows, w: float) -> np.ndarray:
-        d = np.diag(self.cr)[rows]
-        return d + np.diag(self.hr)[rows] / w if self.has_h else d
+        return True
 
     def _iterate(self, s: complex, sub, x) -> tuple[complex, np.ndarray, bool]:
         """Rayleigh-functional inverse iteration for T(s) = s^2 I + s C(|s|) + diag(lam)."""
@@ -261,7 +297,7 @@ class _Modal:
             phase = np.vdot(y, x)
             if phase != 0:
                 y = y * (phase / abs(phase))
-            done = abs(s_new - s) <= 1e-14 * abs(s_new) and np.linalg.norm(y - x) < 1e-8
+            done = abs(s_new - s) <= 1e-13 * abs(s_new) and np.linalg.norm(y - x) < 1e-6
             s, x = s_new, y
             if done:
                 return s, x, True
@@ -269,20 +305,6 @@ class _Modal:
         res = np.linalg.norm(s * s * x + s * (c @ x) + lam * x)
         scale = abs(s) ** 2 + float(np.max(lam, initial=0.0))
         return s, x, bool(res <= 1e-10 * scale)
-
-    def _left_out(self, s: complex, sub, x) -> float:
-        """Relative first-order change of root s from the modes outside ``sub``."""
-        m = len(self.lam)
-        rows = np.setdiff1d(np.arange(m), sub)
-        if not len(rows):
-            return 0.0
-        w = abs(s)
-        r = s * (self._c(rows, sub, w) @ x)
-        t = s * s + s * self._diag_c(rows, w) + self.lam[rows]
-        dt = x @ ((2 * s * np.eye(len(sub)) + self._c(sub, sub, w)) @ x)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            ds = np.sum(np.where(t != 0, r * r / np.where(t != 0, t, 1.0), 0.0)) / dt
-        return float(abs(ds) / abs(s)) if np.isfinite(ds) else math.inf
 
     # -- checks and results ----------------------------------------------------
     def duplicated(self, slots: list[_Slot | None]) -> bool:
@@ -374,18 +396,55 @@ def _root_groups(s: np.ndarray, x: np.ndarray) -> list[tuple[int, ...]]:
 def _assignment(score: np.ndarray) -> list[int]:
     """Row -> column, one-to-one, maximising the summed score (-1: no column)."""
     p, q = score.shape
-    if p == 1:
-        return [int(np.argmax(score[0]))] if q else [-1]
-    if p <= 4 and q == p:   # exact by enumeration (at most 24 orders)
-        best = max(itertools.permutations(range(q)),
-                   key=lambda perm: sum(score[r, perm[r]] for r in range(p)))
-        return list(best)
-    from scipy.optimize import linear_sum_assignment  # import cost only for large clusters
+    if p > q:
+        cols = _assignment(score.T)
+        out = [-1] * p
+        for c, r in enumerate(cols):
+            if r >= 0:
+                out[r] = c
+        return out
+    return hungarian(-np.asarray(score, dtype=float))
 
-    rows, cols = linear_sum_assignment(-score)
+
+def hungarian(cost: np.ndarray) -> list[int]:
+    """Least-cost assignment of each row of a (p, q) cost matrix, p <= q, to its own
+    column (Kuhn-Munkres by shortest augmenting paths with potentials, O(p^2 q)).
+    Written here rather than taken from scipy.optimize, whose import would cost
+    every ``modes`` run a tenth of a second; tested against it."""
+    p, q = cost.shape
+    u, v = np.zeros(p + 1), np.zeros(q + 1)
+    match = np.zeros(q + 1, dtype=int)       # match[j]: row (1-based) holding column j
+    way = np.zeros(q + 1, dtype=int)
+    for i in range(1, p + 1):
+        match[0], j0 = i, 0
+        minv = np.full(q + 1, np.inf)
+        used = np.zeros(q + 1, dtype=bool)
+        while True:
+            used[j0] = True
+            i0 = match[j0]
+            free = ~used[1:]
+            cur = cost[i0 - 1] - u[i0] - v[1:]
+            better = free & (cur < minv[1:])
+            minv[1:][better] = cur[better]
+            way[1:][better] = j0
+            cand = np.where(free, minv[1:], np.inf)
+            j1 = int(np.argmin(cand)) + 1
+            delta = cand[j1 - 1]
+            held = np.flatnonzero(used)
+            u[match[held]] += delta
+            v[held] -= delta
+            minv[1:][free] -= delta
+            j0 = j1
+            if match[j0] == 0:
+                break
+        while j0:
+            j1 = way[j0]
+            match[j0] = match[j1]
+            j0 = j1
     out = [-1] * p
-    for r, c in zip(rows, cols):
-        out[int(r)] = int(c)
+    for j in range(1, q + 1):
+        if match[j]:
+            out[match[j] - 1] = j - 1
     return out
 
 

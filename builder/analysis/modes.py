@@ -162,7 +162,9 @@ def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
                          Where(field="--count"))
     count = n if (count is None and n <= DENSE_LIMIT) else min(int(count or DEFAULT_COUNT), n)
     check_matrices(model)
-    basis = n if n <= DENSE_LIMIT else min(n, count + max(count, DEFAULT_COUNT))
+    damped_model = model.C.nnz > 0 or model.H.nnz > 0
+    basis = n if n <= DENSE_LIMIT else (
+        min(n, count + max(count, DEFAULT_COUNT)) if damped_model else count)
     with blas_threads_for(n):
         lam, shapes = lowest_modes(model.K, model.M, basis)
         rigid = zero_frequency(model, lam)
