@@ -17,7 +17,8 @@ to a vehicle whatever the unit was meant to be:
   135 Hz; ride, mount, seat and tyre rates give 1 to 60 Hz), and links whose
   implied frequencies span more than :data:`SPREAD` (the lowest modes then
   keep only a few significant digits). Beams are not held to the lumped
-  limit (short segments of a stiff body legitimately reach kilohertz).
+  limit nor to the others (short segments of a finely divided body reach any
+  frequency: it grows with the square of the division).
 
 The limits are common practice for vehicle ride and NVH models, no source.
 :func:`plausibility` returns the findings; :func:`require_plausible` raises
@@ -88,13 +89,16 @@ def _findings(model: LinearModel) -> tuple[Finding, ...]:
     if any(f.hopeless for f in found):
         return tuple(found)
     names, omega2, dof = _implied(model)
-    hz = np.sqrt(omega2) / (2 * math.pi)
     links = model.assembly.links
+    # Beams are held to no frequency limit: the segments of a finely divided body
+    # legitimately reach any frequency (it grows with the square of the division).
+    lumped = np.array([links[n].type != "beam" for n in names], dtype=bool)
+    hz = np.where(lumped, np.sqrt(omega2) / (2 * math.pi), 0.0)
     for i in np.argsort(-hz):
         if hz[i] <= LUMPED_HZ:
             break
         link = links[names[i]]
-        if hz[i] > HOPELESS_HZ:
+        if hz[i] > HOPELESS_HZ:   # springs, bushings and plugin link types
             found.append(Finding(True, _rate_text(model, names[i], dof[i], hz[i])
                                  + f", beyond any vehicle model (above {HOPELESS_HZ:.0e} Hz): "
                                  "check the value and its unit", link.where))

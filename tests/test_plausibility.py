@@ -110,3 +110,18 @@ def test_hopeless_model_refused_by_assemble_itself():
     text = SLOW.replace("%K%", "100").replace("stiffness: 1e12", "stiffness: 1e20")
     with pytest.raises(InputError, match="links.stiff.*beyond any vehicle"):
         assemble(load_text(text, "slow.yaml"))
+
+
+def test_finely_divided_free_beam_keeps_its_elastic_modes():
+    # Analytic: a free-free Euler-Bernoulli beam has six zero-frequency modes and
+    # its first bending mode at (4.7300^2 / (2 pi)) sqrt(EI / (rho A L^4)) (beta L
+    # from cos(bL) cosh(bL) = 1; from memory, checked by root finding in
+    # test_beam_matrix); the segments' rotary inertia lowers it by about 2 %. In
+    # 2,000 segments the largest K/M is 1e17, and a zero-frequency tolerance
+    # relative to it called the first bending modes rigid.
+    from plugins.split_body.split import uniform_bar
+    section = dict(EA=2.0e9, EIy=3.0e6, EIz=4.5e6, GJ=1.2e6)
+    modes = compute_modes(assemble(uniform_bar(2000, 4.0, 60.0, 2.0, section)), 8)
+    assert modes.rigid_count == 6
+    f1 = 4.7300 ** 2 / (2 * math.pi) * math.sqrt(3.0e6 / (60.0 * 4.0 ** 4))
+    assert modes[6].frequency_hz == pytest.approx(f1, rel=0.03)

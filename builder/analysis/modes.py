@@ -205,10 +205,30 @@ def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
 
 
 def zero_frequency(model: LinearModel, eigenvalues: np.ndarray) -> np.ndarray:
-    """Which eigenvalues (omega^2, rad^2/s^2) of ``model`` are zero-frequency modes:
-    below :data:`RIGID_TOLERANCE` times the largest K_jj / M_jj (the round-off
-    scale of the eigenvalues)."""
-    return np.asarray(eigenvalues) < RIGID_TOLERANCE * max(_stiffness_scale(model)[0], 1e-300)
+    """Which of the ascending eigenvalues (omega^2, rad^2/s^2) of ``model`` are
+    zero-frequency modes.
+
+    Candidates are the eigenvalues below the round-off level
+    ``RIGID_TOLERANCE * max(K_jj / M_jj)``; of those, the zero-frequency ones
+    are the lowest, up to the largest jump of at least 100 between
+    neighbours (rigid-body eigenvalues come out at 1e-16 of that scale, while
+    the first elastic modes of a finely divided body, whose scale grows with
+    the fourth power of the division, may sit just below it but far above
+    them). Without such a jump every candidate counts.
+    """
+    lam = np.asarray(eigenvalues, dtype=float)
+    noise = RIGID_TOLERANCE * max(_stiffness_scale(model)[0], 1e-300)
+    small = np.flatnonzero(lam <= noise)
+    out = np.zeros(lam.shape, dtype=bool)
+    if not len(small):
+        return out
+    level = np.maximum.accumulate(np.maximum(np.abs(lam), 1e-6 * noise))
+    candidates = int(small[-1]) + 1
+    jumps = [k for k in range(1, min(candidates + 1, len(lam)))
+             if lam[k] >= 100 * level[k - 1]]
+    count = jumps[-1] if jumps else candidates
+    out[:count] = True
+    return out
 
 
 def _stiffness_scale(model: LinearModel) -> tuple[float, int]:
