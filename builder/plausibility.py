@@ -52,6 +52,7 @@ SPREAD = 1.0e6
 #: A mass or inertia below this times the model's largest of its kind is refused.
 MASS_RATIO = 1.0e-9
 _LUMPED_TYPES = ("spring", "bushing")
+_LISTED = 3                 # links named one by one; the rest are counted
 
 
 @dataclass(frozen=True)
@@ -94,19 +95,25 @@ def _findings(model: LinearModel) -> tuple[Finding, ...]:
     # legitimately reach any frequency (it grows with the square of the division).
     lumped = np.array([links[n].type != "beam" for n in names], dtype=bool)
     hz = np.where(lumped, np.sqrt(omega2) / (2 * math.pi), 0.0)
-    for i in np.argsort(-hz):
-        if hz[i] <= LUMPED_HZ:
-            break
+    md = np.asarray(model.M.diagonal(), dtype=float)
+    high = [i for i in np.argsort(-hz) if hz[i] > LUMPED_HZ
+            and (hz[i] > HOPELESS_HZ or links[names[i]].type in _LUMPED_TYPES)]
+    for i in high[:_LISTED]:
         link = links[names[i]]
+        text = _rate_text(model, md, names[i], dof[i], hz[i])
         if hz[i] > HOPELESS_HZ:   # springs, bushings and plugin link types
-            found.append(Finding(True, _rate_text(model, names[i], dof[i], hz[i])
-                                 + f", beyond any vehicle model (above {HOPELESS_HZ:.0e} Hz): "
-                                 "check the value and its unit", link.where))
-        elif link.type in _LUMPED_TYPES:
-            found.append(Finding(False, _rate_text(model, names[i], dof[i], hz[i])
-                                 + f", high for a {link.type} (vehicle ride, mount and seat "
-                                 f"rates sit below about {LUMPED_HZ:.0f} Hz): check the value "
-                                 "and its unit, or use a rigid link", link.where))
+            found.append(Finding(True, text + f", beyond any vehicle model (above "
+                                 f"{HOPELESS_HZ:.0e} Hz): check the value and its unit",
+                                 link.where))
+        else:
+            found.append(Finding(False, text + f", high for a {link.type} (vehicle ride, "
+                                 f"mount and seat rates sit below about {LUMPED_HZ:.0f} Hz): "
+                                 "check the value and its unit, or use a rigid link",
+                                 link.where))
+    if len(high) > _LISTED:
+        found.append(Finding(False, f"{len(high) - _LISTED} more links have implied "
+                             f"frequencies above {LUMPED_HZ:.0f} Hz (up to "
+                             f"{_hz(hz[high[_LISTED]])})", links[names[high[_LISTED]]].where))
     positive = np.flatnonzero(hz > 0)
     if len(positive) > 1 and not any(f.hopeless for f in found):
         hi, lo = positive[np.argmax(hz[positive])], positive[np.argmin(hz[positive])]
@@ -192,16 +199,19 @@ def _implied(model: LinearModel) -> tuple[list[str], np.ndarray, np.ndarray]:
     return names, np.nan_to_num(omega2, nan=np.inf, posinf=np.inf), dof
 
 
-def _rate_text(model: LinearModel, name: str, j: int, hz: float) -> str:
+def _rate_text(model: LinearModel, md: np.ndarray, name: str, j: int, hz: float) -> str:
     lm = model.links[name]
     col = int(np.flatnonzero(lm.cols == j)[0]) if np.any(lm.cols == j) else 0
     shares = lm.stiffness * lm.Dq[:, col] ** 2 if lm.Dq.size else lm.stiffness
     c = int(np.argmax(shares)) if len(shares) else 0
     unit = "N/m" if lm.units[c] == "m" else "N m/rad"
     dof = model.dofs[j]
-    mass = float(model.M.diagonal()[j])
+    mass = float(md[j])
     munit = "kg m^2" if dof.rsplit(".", 1)[-1] in ("rx", "ry", "rz") else "kg"
     what = "stiffness" if len(lm.components) == 1 else f"{lm.components[c]} stiffness"
+    where = model.assembly.links[name].where
+    if not where.field.endswith(name):     # a link a plugin made, or one built in code
+        what = f"link {name}: {what}"
     implied = f"an implied frequency of {_hz(hz)}" if math.isfinite(hz) else \
         "an infinite implied frequency (an overflow)"
     return f"{what} {lm.stiffness[c]:.3g} {unit} gives {dof} ({mass:.3g} {munit}) {implied}"
