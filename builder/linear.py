@@ -339,6 +339,16 @@ class _Components:
 def assemble(assembly: Assembly) -> LinearModel:
     """Build the sparse LinearModel of an Assembly (rigid links already merged).
 
+    Overflowing values give non-finite matrices, refused by the plausibility check
+    with the link or body named (InputError); no floating-point warning is printed.
+    """
+    with np.errstate(all="ignore"):
+        return _assemble(assembly)
+
+
+def _assemble(assembly: Assembly) -> LinearModel:
+    """:func:`assemble` itself.
+
     Links of the built-in types (and of any type with ``batch``) go in one
     sparse deflection map G: K = G^T diag(k) G, C = G^T diag(c) G,
     H = G^T diag(eta k) G and Br = -G^T diag(k) R for the road map R; links of

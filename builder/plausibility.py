@@ -12,6 +12,7 @@ to a vehicle whatever the unit was meant to be:
   wheel 430 kHz), a body whose mass or inertia is not a positive finite
   number or is below :data:`MASS_RATIO` times the largest (a 1e-300 kg wheel);
   such values leave no significant digit in the lowest modes;
+- a loss factor above :data:`LOSS_FACTOR_LIMIT` is refused, above 1 warned about;
 - suspicious (warning): a spring or bushing whose implied frequency is above
   :data:`LUMPED_HZ` (a road spring of "26 kN/mm" puts a 36 kg wheel at
   135 Hz; ride, mount, seat and tyre rates give 1 to 60 Hz), and links whose
@@ -41,7 +42,7 @@ if TYPE_CHECKING:
     from .linear import LinearModel
 
 __all__ = ["Finding", "plausibility", "require_plausible", "HOPELESS_HZ", "LUMPED_HZ",
-           "SPREAD", "MASS_RATIO"]
+           "SPREAD", "MASS_RATIO", "LOSS_FACTOR_LIMIT"]
 
 #: Implied frequency (Hz) beyond any lumped vehicle model: refused.
 HOPELESS_HZ = 1.0e5
@@ -51,6 +52,9 @@ LUMPED_HZ = 100.0
 SPREAD = 1.0e6
 #: A mass or inertia below this times the model's largest of its kind is refused.
 MASS_RATIO = 1.0e-9
+#: Loss factors above this are refused, above 1 warned about (elastomers and
+#: structural damping treatments stay below about 1; common practice, no source).
+LOSS_FACTOR_LIMIT = 10.0
 _LUMPED_TYPES = ("spring", "bushing")
 _LISTED = 3                 # links named one by one; the rest are counted
 
@@ -86,7 +90,7 @@ def plausibility(model: LinearModel) -> tuple[Finding, ...]:
 
 
 def _findings(model: LinearModel) -> tuple[Finding, ...]:
-    found = _masses(model) + _points(model)
+    found = _masses(model) + _points(model) + _loss_factors(model)
     if any(f.hopeless for f in found):
         return tuple(found)
     names, omega2, dof = _implied(model)
@@ -123,6 +127,20 @@ def _findings(model: LinearModel) -> tuple[Finding, ...]:
                                  f"{_hz(hz[hi])}): the lowest modes keep few significant "
                                  "digits; check both values", links[names[hi]].where))
     return tuple(sorted(found, key=lambda f: not f.hopeless))
+
+
+def _loss_factors(model: LinearModel) -> list[Finding]:
+    out = []
+    for name, link in model.assembly.links.items():
+        eta = link.props.get("loss_factor", 0.0) if isinstance(link.props, dict) else 0.0
+        if not isinstance(eta, int | float) or eta <= 1.0:
+            continue
+        hopeless = not math.isfinite(eta) or eta > LOSS_FACTOR_LIMIT
+        out.append(Finding(hopeless, f"loss factor {eta:.3g} of link {name} is "
+                           + ("beyond any material (above 10)" if hopeless else
+                              "above 1, more than elastomers or damping treatments give")
+                           + ": check the value", link.where))
+    return out
 
 
 #: Link points farther than this from the origin (m) are refused.

@@ -94,7 +94,14 @@ class DampedModes:
 def damped_modes(model: LinearModel, shapes: np.ndarray, eigenvalues: np.ndarray,
                  rigid: np.ndarray) -> DampedModes:
     """Damping of the undamped modes ``shapes`` (n, m; M-orthonormal) with
-    eigenvalues omega^2 (rad^2/s^2); ``rigid`` marks zero-frequency modes."""
+    eigenvalues omega^2 (rad^2/s^2); ``rigid`` marks zero-frequency modes.
+    A mode whose root cannot be computed in finite numbers gets no damping."""
+    with np.errstate(all="ignore"):
+        return _damped_modes(model, shapes, eigenvalues, rigid)
+
+
+def _damped_modes(model: LinearModel, shapes: np.ndarray, eigenvalues: np.ndarray,
+                  rigid: np.ndarray) -> DampedModes:
     m = shapes.shape[1]
     lam = np.where(rigid, 0.0, np.clip(np.asarray(eigenvalues, float), 0.0, None))
     if model.C.nnz == 0 and model.H.nnz == 0:
@@ -104,6 +111,9 @@ def damped_modes(model: LinearModel, shapes: np.ndarray, eigenvalues: np.ndarray
     hr = _project(model.H, shapes)
     hr[rigid, :] = 0.0   # H is a sum of eta K_e: rigid motion strains no link
     hr[:, rigid] = 0.0
+    if not (np.all(np.isfinite(cr)) and np.all(np.isfinite(hr))):
+        return DampedModes(tuple((None, None, False, ()) for _ in range(m)), (math.inf,) * m,
+                           m, (0.0,) * m, bool(model.H.nnz))
     problem = _Modal(lam, cr, hr, rigid)
     for threshold in (CLUSTER_COUPLING, 0.1 * CLUSTER_COUPLING, 0.0):
         slots = problem.solve(threshold)
@@ -322,7 +332,8 @@ class _Modal:
         return False
 
     def report(self, i: int, slot: _Slot | None) -> DampedMode:
-        if self.rigid[i] or slot is None or not slot.roots:
+        if self.rigid[i] or slot is None or not slot.roots or \
+                not all(np.isfinite(r) for r in slot.roots):
             return (None, None, False, ())
         if slot.vector is not None:
             root = slot.roots[0]
