@@ -4,6 +4,7 @@ suspicious ones warned about with their implied frequency."""
 from __future__ import annotations
 
 import math
+from pathlib import Path
 
 import pytest
 from conftest import ASSEMBLIES
@@ -125,3 +126,11 @@ def test_finely_divided_free_beam_keeps_its_elastic_modes():
     assert modes.rigid_count == 6
     f1 = 4.7300 ** 2 / (2 * math.pi) * math.sqrt(3.0e6 / (60.0 * 4.0 ** 4))
     assert modes[6].frequency_hz == pytest.approx(f1, rel=0.03)
+
+
+def test_absurd_loss_factor_is_refused(write_yaml, run_cli):
+    # A loss factor of 1e12 printed "nan" damping for every mode of the van.
+    van = (Path(__file__).parent / "models" / "light_van.yaml").read_text()
+    path = _write(write_yaml, "loss_factor: 0.08}", "loss_factor: 1e12}", van)
+    code, _, err = run_cli("modes", path)
+    assert code == 2 and "links.leaf_l" in _one_clean_line(err) and "loss factor" in err
