@@ -32,6 +32,7 @@ from .elements import LINK_TYPES, ComponentBatch, ElementMatrices
 from .errors import InputError, Where
 from .kinematics import DOF_NAMES, motion_map, motion_map_all
 from .plausibility import require_plausible
+from .threads import blas_threads_for
 
 __all__ = ["LinearModel", "LinkMap", "assemble", "link_diagonal_stiffness", "GRAVITY"]
 
@@ -171,6 +172,10 @@ class LinearModel:
     def to_state_space(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
         """Dense (A, B, C, D): state [q; q'] (m, rad, m/s, rad/s), input [r; r'] (m, m/s),
         output the sensors. The hysteretic part H has no time-domain form and is left out."""
+        with blas_threads_for(2 * self.n):    # small dense problems: one BLAS thread
+            return self._state_space()
+
+    def _state_space(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
         n, nr = self.n, len(self.inputs)
         M = self.M.toarray()
         Minv_K = np.linalg.solve(M, self.K.toarray())
