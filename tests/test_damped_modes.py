@@ -166,3 +166,27 @@ def test_assignment_matches_scipy_linear_sum_assignment():
         ours = hungarian(cost)
         assert len(set(ours)) == p and min(ours) >= 0
         assert cost[np.arange(p), ours].sum() == pytest.approx(cost[rows, cols].sum(), abs=1e-12)
+
+
+@pytest.mark.parametrize("change", ["K*1e-300", "C*1e300", "H*1e300", "M0"])
+def test_extreme_matrices_end_in_results_or_one_input_error(change):
+    # Robustness: scaled or singular matrices never raise anything but InputError
+    # (a stiffness scaled by 1e-300 raised ZeroDivisionError in the damping).
+    from builder.errors import InputError
+    model = assemble(load_assembly(MODELS / "light_van.yaml"))
+    if change == "M0":
+        M = model.M.tolil()
+        M[3, 3] = 0.0
+        model = model.with_matrices(M=M.tocsr())
+    else:
+        key, factor = change.split("*")
+        model = model.with_matrices(**{key: getattr(model, key) * float(factor)})
+    try:
+        modes = compute_modes(model)
+    except InputError as exc:     # a massless DOF; loss-factor stiffness overflowing to inf
+        assert {"M0": "mass", "H*1e300": "not a finite"}[change] in str(exc)
+        return
+    assert change in ("K*1e-300", "C*1e300")
+    for m in modes.modes:
+        assert math.isfinite(m.frequency_hz)
+        assert m.damping_ratio is None or math.isfinite(m.damping_ratio)

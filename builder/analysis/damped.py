@@ -338,6 +338,8 @@ class _Modal:
         if slot.vector is not None:
             root = slot.roots[0]
             wn = abs(root)
+            if wn == 0:
+                return (None, None, False, ())
             return (float(-root.real / wn), float(abs(root.imag) / (2 * math.pi)), False,
                     (root, root.conjugate()))
         if len(slot.roots) < 2:
