@@ -48,7 +48,6 @@ DEFAULT_COUNT = 20
 RIGID_TOLERANCE = 1e-13
 
 
-
 @dataclass(frozen=True, eq=False)
 class Mode:
     """One mode: frequencies in Hz, shape over the model's DOFs (mass-normalised)."""
@@ -200,8 +199,6 @@ def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
         notes.append(_rigid_note(model, nr))
     notes.extend(_damping_notes(modes, damped, len(lam), n))
     return ModeSet(model, tuple(modes), tuple(notes))
-
-
 
 
 def zero_frequency(model: LinearModel, eigenvalues: np.ndarray) -> np.ndarray:
