@@ -34,7 +34,7 @@ from .kinematics import DOF_NAMES, motion_map, motion_map_all
 from .plausibility import require_plausible
 from .threads import blas_threads_for
 
-__all__ = ["LinearModel", "LinkMap", "assemble", "link_diagonal_stiffness", "GRAVITY"]
+__all__ = ["LinearModel", "LinkMap", "assemble", "GRAVITY"]
 
 GRAVITY = 9.80665  # m/s^2, standard gravity
 
@@ -484,20 +484,6 @@ class _LinkMaps(Mapping):
         rows = slice(start, start + m)
         return LinkMap(cols, Dq, roads, Dr, self._k[rows].copy(), self._c[rows].copy(), eta,
                        components, units, self._n, self._nr)
-
-
-def link_diagonal_stiffness(model: LinearModel) -> tuple[list[str], sp.csr_array]:
-    """Each link's share of the stiffness diagonal of an unreduced model,
-    sum_c k_c D_cj^2 (N/m, N m/rad), as (link names, (links, n) sparse array)."""
-    links = model.links
-    names = list(links)
-    if isinstance(links, _LinkMaps):
-        return names, links.diagonal_shares()
-    out = sp.lil_array((len(names), model.n))
-    for i, name in enumerate(names):
-        lm = links[name]
-        out[[i], lm.cols] = (lm.stiffness[:, None] * lm.Dq ** 2).sum(axis=0)
-    return names, sp.csr_array(out)
 
 
 def _dense_rows(A: sp.csr_array, start: int, m: int) -> tuple[np.ndarray, np.ndarray]:

@@ -30,16 +30,27 @@ every analysis gets the check through one place.
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import TYPE_CHECKING
+from typing import Any, Protocol
 
 import numpy as np
 import scipy.sparse as sp
 
 from .errors import InputError, Where
 
-if TYPE_CHECKING:
-    from .linear import LinearModel
+
+class LinearModel(Protocol):
+    """What the checks read of a :class:`builder.linear.LinearModel` (this module
+    sits below the assembler, which calls it, so it does not import it)."""
+
+    assembly: Any
+    dofs: tuple[str, ...]
+    M: Any
+    links: Mapping[str, Any]
+
+    @property
+    def n(self) -> int: ...
 
 __all__ = ["Finding", "plausibility", "require_plausible", "HOPELESS_HZ", "LUMPED_HZ",
            "SPREAD", "MASS_RATIO", "LOSS_FACTOR_LIMIT"]
@@ -199,9 +210,7 @@ def _masses(model: LinearModel) -> list[Finding]:
 
 def _implied(model: LinearModel) -> tuple[list[str], np.ndarray, np.ndarray]:
     """Per link: name, largest k_jj / M_jj over its DOFs (rad^2/s^2), and that DOF."""
-    from .linear import link_diagonal_stiffness
-
-    names, share = link_diagonal_stiffness(model)
+    names, share = _diagonal_shares(model)
     if not names:
         return [], np.zeros(0), np.zeros(0, dtype=int)
     md = np.asarray(model.M.diagonal(), dtype=float)
@@ -215,6 +224,20 @@ def _implied(model: LinearModel) -> tuple[list[str], np.ndarray, np.ndarray]:
             j = int(np.argmax(scaled.data[lo:hi]))
             omega2[i], dof[i] = scaled.data[lo + j], scaled.indices[lo + j]
     return names, np.nan_to_num(omega2, nan=np.inf, posinf=np.inf), dof
+
+
+def _diagonal_shares(model: LinearModel) -> tuple[list[str], sp.csr_array]:
+    """Each link's share of the stiffness diagonal, sum_c k_c D_cj^2 (N/m, N m/rad):
+    from the assembler's stacked maps when it has them, else link by link."""
+    links = model.links
+    names = list(links)
+    if hasattr(links, "diagonal_shares"):
+        return names, links.diagonal_shares()
+    out = sp.lil_array((len(names), model.n))
+    for i, name in enumerate(names):
+        lm = links[name]
+        out[[i], lm.cols] = (lm.stiffness[:, None] * lm.Dq ** 2).sum(axis=0)
+    return names, sp.csr_array(out)
 
 
 def _rate_text(model: LinearModel, md: np.ndarray, name: str, j: int, hz: float) -> str:
