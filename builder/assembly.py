@@ -232,14 +232,15 @@ def combined_mass_properties(bodies: list[Body]) -> tuple[float, np.ndarray, np.
     For each body, J_combined += J_body + m (|d|^2 I - d d^T) with d the
     offset of its cg from the combined cg. No bodies give zero mass, cg and inertia.
     """
-    mass = float(sum(b.mass for b in bodies))
+    m = np.array([b.mass for b in bodies], dtype=float)
+    mass = float(m.sum())
     if not bodies or mass <= 0:
         return mass, np.zeros(3), np.zeros((3, 3))
-    cg = sum(b.mass * b.cg for b in bodies) / mass
-    inertia = np.zeros((3, 3))
-    for b in bodies:
-        d = b.cg - cg
-        inertia += b.inertia + b.mass * (d @ d * np.eye(3) - np.outer(d, d))
+    d = np.array([b.cg for b in bodies], dtype=float).reshape(-1, 3)
+    cg = m @ d / mass
+    d = d - cg
+    inertia = np.sum([b.inertia for b in bodies], axis=0) + (
+        np.sum(m * np.sum(d * d, axis=1)) * np.eye(3) - (m[:, None] * d).T @ d)
     return mass, cg, 0.5 * (inertia + inertia.T)
 
 

@@ -29,15 +29,17 @@ M-orthonormal basis of their space.
 
 from __future__ import annotations
 
-__all__ = ["lowest_modes", "DENSE_LIMIT", "DEFAULT_SHIFT", "default_shift",
+from typing import Any
+
+__all__ = ["lowest_modes", "zero_frequency_modes", "DENSE_LIMIT", "DEFAULT_SHIFT", "default_shift",
            "sparse_factor", "natural_frequencies_hz"]
 
 import numpy as np
 import scipy.linalg
 import scipy.sparse
-import scipy.sparse.linalg
 
 from .errors import InputError
+from .threads import blas_threads_for
 
 #: Problems with at most this many DOFs are solved densely.
 DENSE_LIMIT = 600
@@ -110,12 +112,40 @@ def lowest_modes(K, M, count: int, sigma: float | None = None,
     count = int(count)
     if count < 1 or count > n:
         raise InputError(f"asked for {count} modes of a model with {n} DOFs")
+    _check_finite(K, "stiffness")
+    _check_finite(M, "mass")
     if n <= dense_limit or count >= n - 1 or 2 * count >= n:
-        k = _as_dense(K)
-        m = _as_dense(M)
-        lam, x = scipy.linalg.eigh(0.5 * (k + k.T), 0.5 * (m + m.T),
-                                   subset_by_index=[0, count - 1])
-        return lam, _sign_convention(x)
+        return _dense_modes(_as_dense(K), _as_dense(M), count)
+    return _sparse_modes(K, M, count, sigma)
+
+
+def _check_finite(A, what: str) -> None:
+    data = A.data if scipy.sparse.issparse(A) else np.asarray(A)
+    if not np.all(np.isfinite(data)):
+        raise InputError(f"the {what} matrix has non-finite entries (a value overflowed or is "
+                         "not a number): check the sizes of the masses, inertias and rates")
+
+
+def _dense_modes(k: np.ndarray, m: np.ndarray, count: int) -> tuple[np.ndarray, np.ndarray]:
+    n = k.shape[0]
+    try:
+        with blas_threads_for(n), np.errstate(all="ignore"):
+            lam, x = scipy.linalg.eigh(0.5 * (k + k.T), 0.5 * (m + m.T),
+                                       subset_by_index=[0, count - 1])
+    except (np.linalg.LinAlgError, ValueError) as exc:
+        raise InputError("the mass matrix is not positive definite (a body without mass or "
+                         "inertia in one of its DOFs, or values too far apart for double "
+                         f"precision): {exc}") from None
+    if not (np.all(np.isfinite(lam)) and np.all(np.isfinite(x))) or x.shape[1] != count:
+        raise InputError("the eigen-solution is not finite: the masses or stiffnesses are too "
+                         "far apart in size for double precision")
+    return lam, _sign_convention(x)
+
+
+def _sparse_modes(K, M, count: int, sigma: float | None) -> tuple[np.ndarray, np.ndarray]:
+    import scipy.sparse.linalg
+
+    n = K.shape[0]
     k = scipy.sparse.csc_array(K)
     m = scipy.sparse.csc_array(M)
     shift = default_shift(k, m) if sigma is None else float(sigma)
@@ -143,19 +173,32 @@ def lowest_modes(K, M, count: int, sigma: float | None = None,
                 raise InputError(f"the eigen-solution for the lowest {count} modes did not "
                                  "converge; ask for fewer modes") from exc
             ncv = min(n, 2 * ncv)
-    lam, x = _rayleigh_ritz(k, m, x)
+        except (scipy.sparse.linalg.ArpackError, ValueError) as exc:
+            raise InputError(f"the eigen-solution failed ({exc}): the masses or stiffnesses "
+                             "are too far apart in size for double precision") from None
+    try:
+        with blas_threads_for(count):
+            lam, x = _rayleigh_ritz(k, m, x)
+    except (np.linalg.LinAlgError, ValueError) as exc:
+        raise InputError(f"the mass matrix is not positive definite: {exc}") from None
+    if not (np.all(np.isfinite(lam)) and np.all(np.isfinite(x))):
+        raise InputError("the eigen-solution is not finite: the masses or stiffnesses are too "
+                         "far apart in size for double precision")
     return lam, _sign_convention(x)
 
 
-def sparse_factor(A) -> scipy.sparse.linalg.SuperLU:
+def sparse_factor(A) -> Any:
     """Sparse LU of a square matrix, with a column ordering chosen for its shape.
 
     A matrix that is already banded in its own order (``bandwidth * n`` at most
     four times its number of non-zeros, as for a chain of segments numbered
     along the chain) keeps that order, whose factor is compact and fast to
-    solve with; any other gets the COLAMD fill-reducing ordering. Raises
-    RuntimeError when the factor is exactly singular.
+    solve with; any other gets the COLAMD fill-reducing ordering. Returns a
+    :class:`scipy.sparse.linalg.SuperLU`. Raises RuntimeError when the factor
+    is exactly singular.
     """
+    import scipy.sparse.linalg
+
     a = scipy.sparse.csc_array(A)
     coo = a.tocoo()
     n = a.shape[0]
@@ -181,3 +224,31 @@ def natural_frequencies_hz(eigenvalues: np.ndarray) -> np.ndarray:
     """Natural frequencies, Hz, of eigenvalues omega^2 (rad^2/s^2); negatives give 0."""
     lam = np.asarray(eigenvalues, dtype=float)
     return np.sqrt(np.clip(lam, 0.0, None)) / (2.0 * np.pi)
+
+
+#: A mode is zero-frequency when its eigenvalue is below this many times its own
+#: round-off level (see :func:`zero_frequency_modes`) ...
+ROUNDOFF_FACTOR = 3.0
+
+#: ... or below this omega^2 (rad^2/s^2): 0.001 Hz, far below any vehicle mode.
+ZERO_FLOOR = (2 * np.pi * 1e-3) ** 2
+
+
+def zero_frequency_modes(K, eigenvalues: np.ndarray, shapes: np.ndarray) -> np.ndarray:
+    """Which computed modes are zero-frequency (rigid-body or mechanism), a bool mask.
+
+    An eigenvalue omega^2 = phi^T K phi (phi M-normalised, rad^2/s^2) is computed
+    with a round-off of about ``eps * |phi|^T |K| |phi|``: a mode whose eigenvalue
+    is within a few times that of zero cannot be told from a motion that strains
+    no link. The level is each mode's own, so that stiff short segments (large
+    K_jj / M_jj) do not turn the real low modes of the rest into "rigid" ones,
+    as a threshold on the largest K_jj / M_jj would. The one rule for every
+    analysis (modes, checks, reductions).
+    """
+    lam = np.asarray(eigenvalues, dtype=float)
+    if lam.size == 0:
+        return np.zeros(0, dtype=bool)
+    a = np.abs(np.asarray(shapes, dtype=float))
+    with np.errstate(over="ignore", invalid="ignore"):
+        level = np.finfo(float).eps * np.einsum("ij,ij->j", a, np.asarray(abs(K) @ a))
+    return lam <= np.maximum(ROUNDOFF_FACTOR * np.nan_to_num(level, posinf=np.inf), ZERO_FLOOR)

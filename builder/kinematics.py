@@ -18,7 +18,8 @@ from __future__ import annotations
 import numpy as np
 from numpy.typing import ArrayLike
 
-__all__ = ["DOF_NAMES", "skew", "point_map", "point_map_all", "motion_map", "rigid_motions"]
+__all__ = ["DOF_NAMES", "skew", "point_map", "point_map_all", "motion_map", "motion_map_all",
+           "rigid_motions"]
 
 #: The six DOF names of a body, in order: translations (m), rotations (rad).
 DOF_NAMES: tuple[str, ...] = ("x", "y", "z", "rx", "ry", "rz")
@@ -60,4 +61,13 @@ def point_map_all(offsets: np.ndarray) -> np.ndarray:
     out[:, 0, 4], out[:, 0, 5] = z, -y
     out[:, 1, 3], out[:, 1, 5] = -z, x
     out[:, 2, 3], out[:, 2, 4] = y, -x
+    return out
+
+
+def motion_map_all(offsets: np.ndarray) -> np.ndarray:
+    """Stacked :func:`motion_map` for many offsets: (npoints, 6, 6)."""
+    offs = np.asarray(offsets, dtype=float).reshape(-1, 3)
+    out = np.zeros((len(offs), 6, 6))
+    out[:, :3, :] = point_map_all(offs)
+    out[:, 3:, 3:] = np.eye(3)
     return out

@@ -19,17 +19,20 @@ frequency domain only. Sensors read y = Sd q + Sv q' + Sa q'' + Dr r + Dv r'
 
 from __future__ import annotations
 
-import functools
+from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
+from functools import cached_property
 from typing import Any
 
 import numpy as np
 import scipy.sparse as sp
 
 from .assembly import Assembly
-from .elements import LINK_TYPES, ElementMatrices
+from .elements import LINK_TYPES, ComponentBatch, ElementMatrices
 from .errors import InputError, Where
-from .kinematics import DOF_NAMES, motion_map
+from .kinematics import DOF_NAMES, motion_map, motion_map_all
+from .plausibility import require_plausible
+from .threads import blas_threads_for
 
 __all__ = ["LinearModel", "LinkMap", "assemble", "GRAVITY"]
 
@@ -76,6 +79,7 @@ class LinearModel:
     expansion: Any = None
     expansion_input: Any = None
     name: str = ""
+    warnings: tuple[str, ...] = ()
 
     @property
     def n(self) -> int:
@@ -127,7 +131,7 @@ class LinearModel:
         r = np.zeros(3) if at is None else np.asarray(at, float) - b.cg
         return cols, motion_map(r)[:, sel]
 
-    @functools.cached_property
+    @cached_property
     def _body_start(self) -> dict[str, int]:
         starts, pos = {}, 0
         for b in self.assembly.bodies.values():
@@ -170,6 +174,10 @@ class LinearModel:
     def to_state_space(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
         """Dense (A, B, C, D): state [q; q'] (m, rad, m/s, rad/s), input [r; r'] (m, m/s),
         output the sensors. The hysteretic part H has no time-domain form and is left out."""
+        with blas_threads_for(2 * self.n):    # small dense problems: one BLAS thread
+            return self._state_space()
+
+    def _state_space(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
         n, nr = self.n, len(self.inputs)
         M = self.M.toarray()
         Minv_K = np.linalg.solve(M, self.K.toarray())
@@ -221,87 +229,274 @@ class _Triplets:
         return m
 
 
-@dataclass(frozen=True, eq=False)
-class _EndMap:
-    """How one element end's 6-motion depends on q (cols, T) or on a road input."""
-
-    cols: np.ndarray
-    T: np.ndarray          # 6 x len(cols)
-    road: int = -1         # road input index, or -1
-
-
-def _end_map(end: Any, point: np.ndarray, asm: Assembly, offsets: dict[str, tuple],
-             inputs: dict[str, int]) -> _EndMap:
-    if end.kind == "ground":
-        return _EndMap(np.zeros(0, int), np.zeros((6, 0)))
-    if end.kind == "road":
-        return _EndMap(np.zeros(0, int), np.zeros((6, 0)), inputs[end.node])
-    body = asm.bodies[end.node]
-    cols, sel = offsets[end.node]
-    return _EndMap(cols, motion_map(np.asarray(point) - body.cg)[:, sel])
-
-
 _EZ = np.array([0.0, 0.0, 1.0, 0.0, 0.0, 0.0])
 
 
+@dataclass(frozen=True, eq=False)
+class _Layout:
+    """Where the six DOFs of each body sit in q (-1 where the body lacks that DOF),
+    and the road inputs' columns."""
+
+    index: dict[str, int]
+    slots: np.ndarray       # (bodies, 6)
+    cg: np.ndarray          # (bodies, 3)
+    inputs: dict[str, int]
+    n: int
+
+    @staticmethod
+    def of(assembly: Assembly) -> _Layout:
+        bodies = list(assembly.bodies.values())
+        slots = -np.ones((len(bodies), 6), dtype=int)
+        pos = 0
+        for i, b in enumerate(bodies):
+            for d in b.dofs:
+                slots[i, DOF_NAMES.index(d)] = pos
+                pos += 1
+        cg = np.array([b.cg for b in bodies], dtype=float).reshape(-1, 3)
+        return _Layout({b.name: i for i, b in enumerate(bodies)}, slots, cg,
+                       {f"road.{r}": i for i, r in enumerate(assembly.road)}, pos)
+
+    def ends(self, ends: list[Any], points: np.ndarray) -> tuple[np.ndarray, np.ndarray,
+                                                                  np.ndarray]:
+        """For link ends and their points (L, 3): DOF columns (L, 6), the 6 x 6 maps
+        from the body DOFs to the point's motion (L, 6, 6), road columns (L,) (-1: none)."""
+        body = np.array([self.index[e.node] if e.kind == "body" else -1 for e in ends], int)
+        road = np.array([self.inputs[e.node] if e.kind == "road" else -1 for e in ends], int)
+        cols = -np.ones((len(ends), 6), dtype=int)
+        maps = np.zeros((len(ends), 6, 6))
+        on = body >= 0
+        cols[on] = self.slots[body[on]]
+        maps[on] = motion_map_all(points[on] - self.cg[body[on]])
+        return cols, maps, road
+
+
+def _symmetric(A: sp.csr_array) -> sp.csr_array:
+    """(A + A^T)/2, exactly symmetric, explicit zeros dropped."""
+    out = ((A + A.T) * 0.5).tocsr()
+    out.eliminate_zeros()
+    return out
+
+
+def _mass_matrix(assembly: Assembly, layout: _Layout) -> sp.csr_array:
+    bodies = list(assembly.bodies.values())
+    n = layout.n
+    if not bodies:
+        return sp.csr_array((n, n))
+    blocks = np.zeros((len(bodies), 6, 6))
+    blocks[:, [0, 1, 2], [0, 1, 2]] = np.array([b.mass for b in bodies], float)[:, None]
+    blocks[:, 3:, 3:] = np.array([b.inertia for b in bodies], dtype=float).reshape(-1, 3, 3)
+    rows = np.broadcast_to(layout.slots[:, :, None], blocks.shape)
+    cols = np.broadcast_to(layout.slots[:, None, :], blocks.shape)
+    ok = (rows >= 0) & (cols >= 0) & (blocks != 0)
+    return _symmetric(sp.csr_array((blocks[ok], (rows[ok], cols[ok])), shape=(n, n)))
+
+
+class _Components:
+    """The deflection components of every batched link, stacked: d = G q + R r, with
+    stiffness k, damping c and loss-factor stiffness h = eta k per component."""
+
+    def __init__(self, n: int, nr: int):
+        self.n, self.nr, self.count = n, nr, 0
+        self.g: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
+        self.r: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
+        self.k: list[np.ndarray] = []
+        self.c: list[np.ndarray] = []
+        self.h: list[np.ndarray] = []
+        self.rows: dict[str, tuple[int, int, float, tuple[str, ...], tuple[str, ...]]] = {}
+
+    def add(self, links: list[Any], batch: ComponentBatch, layout: _Layout) -> None:
+        nl, m = batch.stiffness.shape
+        rows = self.count + np.arange(nl * m).reshape(nl, m)
+        for e, (ends, points) in enumerate((([lk.a for lk in links], batch.points_a),
+                                            ([lk.b for lk in links], batch.points_b))):
+            cols, maps, road = layout.ends(ends, np.asarray(points, float).reshape(-1, 3))
+            part = batch.deflection[:, :, 6 * e:6 * e + 6]
+            dt = part @ maps                                          # (L, m, 6)
+            cc = np.broadcast_to(cols[:, None, :], dt.shape)
+            rr = np.broadcast_to(rows[:, :, None], dt.shape)
+            ok = (cc >= 0) & (dt != 0)
+            self.g.append((rr[ok], cc[ok], dt[ok]))
+            on = road >= 0
+            if on.any():
+                vals = part[on] @ _EZ                                 # (Lroad, m)
+                self.r.append((rows[on].ravel(), np.repeat(road[on], m), vals.ravel()))
+        k = np.asarray(batch.stiffness, float)
+        self.k.append(k.ravel())
+        self.c.append(np.asarray(batch.damping, float).ravel())
+        self.h.append((np.asarray(batch.loss_factor, float)[:, None] * k).ravel())
+        for i, lk in enumerate(links):
+            self.rows[lk.name] = (self.count + i * m, m, float(batch.loss_factor[i]),
+                                  batch.components, batch.units)
+        self.count += nl * m
+
+    def maps(self) -> tuple[sp.csr_array, sp.csr_array]:
+        """G (components x n) and R (components x road inputs)."""
+        def stack(parts, width):
+            if not parts:
+                return sp.csr_array((self.count, width))
+            r, c, v = (np.concatenate(x) for x in zip(*parts))
+            return sp.csr_array((v, (r, c)), shape=(self.count, width))
+        return stack(self.g, self.n), stack(self.r, self.nr)
+
+    def values(self, key: str) -> np.ndarray:
+        parts = getattr(self, key)
+        return np.concatenate(parts) if parts else np.zeros(0)
+
+
 def assemble(assembly: Assembly) -> LinearModel:
-    """Build the sparse LinearModel of an Assembly (rigid links already merged)."""
+    """Build the sparse LinearModel of an Assembly (rigid links already merged).
+
+    Overflowing values give non-finite matrices, refused by the plausibility check
+    with the link or body named (InputError); no floating-point warning is printed.
+    """
+    with np.errstate(all="ignore"):
+        return _assemble(assembly)
+
+
+def _assemble(assembly: Assembly) -> LinearModel:
+    """:func:`assemble` itself.
+
+    Links of the built-in types (and of any type with ``batch``) go in one
+    sparse deflection map G: K = G^T diag(k) G, C = G^T diag(c) G,
+    H = G^T diag(eta k) G and Br = -G^T diag(k) R for the road map R; links of
+    other types are added element by element.
+    """
     dofs = assembly.dof_labels
-    n = len(dofs)
-    offsets: dict[str, tuple[np.ndarray, list[int]]] = {}
-    pos = 0
-    for b in assembly.bodies.values():
-        k = len(b.dofs)
-        offsets[b.name] = (np.arange(pos, pos + k), [DOF_NAMES.index(d) for d in b.dofs])
-        pos += k
-    inputs = {f"road.{r}": i for i, r in enumerate(assembly.road)}
-    nr = len(inputs)
-
-    M = _Triplets((n, n))
-    for b in assembly.bodies.values():
-        cols, sel = offsets[b.name]
-        M.add(cols, cols, b.mass_matrix[np.ix_(sel, sel)])
-
-    mats = {"K": _Triplets((n, n)), "C": _Triplets((n, n)), "H": _Triplets((n, n))}
-    bmat = {"K": _Triplets((n, nr)), "C": _Triplets((n, nr)), "H": _Triplets((n, nr))}
-    link_maps: dict[str, LinkMap] = {}
+    layout = _Layout.of(assembly)
+    n, nr = layout.n, len(layout.inputs)
+    groups: dict[str, list[Any]] = {}
     for link in assembly.links.values():
         if link.type not in LINK_TYPES:
             raise InputError(f'unknown link type "{link.type}"', link.where)
-        em: ElementMatrices = LINK_TYPES[link.type].matrices(link)
-        ends = (_end_map(link.a, em.points[0], assembly, offsets, inputs),
-                _end_map(link.b, em.points[1], assembly, offsets, inputs))
-        # one map from the element's 12 point motions to its ends' body DOFs
-        cols = np.concatenate([ends[0].cols, ends[1].cols])
-        T = np.zeros((12, len(cols)))
-        T[:6, :len(ends[0].cols)] = ends[0].T
-        T[6:, len(ends[0].cols):] = ends[1].T
-        roads = [(6 * i, e.road) for i, e in enumerate(ends) if e.road >= 0]
-        for key, E in (("K", em.K), ("C", em.C), ("H", em.H)):
-            if not E.any():
-                continue
-            mats[key].add(cols, cols, T.T @ E @ T)
-            for off, j in roads:
-                bmat[key].add(cols, np.array([j]), -(T.T @ E[:, off:off + 6] @ _EZ)[:, None])
-        link_maps[link.name] = LinkMap(
-            cols, em.deflection @ T,
-            np.array([j for _, j in roads], dtype=int),
-            np.column_stack([em.deflection[:, off:off + 6] @ _EZ for off, _ in roads])
-            if roads else np.zeros((em.deflection.shape[0], 0)),
-            em.stiffness, em.damping, em.loss_factor, em.components, em.units, n, nr)
-
-    K = mats["K"].matrix(True)
-    model_inputs = tuple(inputs)
+        groups.setdefault(link.type, []).append(link)
+    comps = _Components(n, nr)
+    others = _ElementSum(n, nr)
+    for kind, links in groups.items():
+        lt = LINK_TYPES[kind]
+        if hasattr(lt, "batch"):
+            comps.add(links, lt.batch(links), layout)
+        else:
+            for link in links:
+                others.add(link, lt.matrices(link), layout)
+    G, R = comps.maps()
+    Gt = G.T.tocsr()
+    weighted = {key: Gt @ sp.diags_array(comps.values(key)) for key in ("k", "c", "h")}
+    mats = {key: _symmetric(weighted[key] @ G + others.mats[key].matrix(True))
+            for key in ("k", "c", "h")}
+    bmat = {key: (-(weighted[key] @ R) + others.bmat[key].matrix()).tocsr()
+            for key in ("k", "c", "h")}
+    for B in bmat.values():
+        B.eliminate_zeros()
+    links = _LinkMaps(list(assembly.links), G, R, comps, others.link_maps, n, nr)
     positions = np.array([assembly.road[r].at for r in assembly.road]).reshape(-1, 3)
     base = LinearModel(
-        dofs=dofs, M=M.matrix(True), C=mats["C"].matrix(True), K=K, H=mats["H"].matrix(True),
-        inputs=model_inputs, input_positions=positions,
-        Br=bmat["K"].matrix(), Bv=bmat["C"].matrix(), Bh=bmat["H"].matrix(),
+        dofs=dofs, M=_mass_matrix(assembly, layout), C=mats["c"], K=mats["k"], H=mats["h"],
+        inputs=tuple(layout.inputs), input_positions=positions,
+        Br=bmat["k"], Bv=bmat["c"], Bh=bmat["h"],
         sensors=(), sensor_units=(), sensor_measures=(),
         Sd=sp.csr_array((0, n)), Sv=sp.csr_array((0, n)), Sa=sp.csr_array((0, n)),
         Sh=sp.csr_array((0, n)), Dr=sp.csr_array((0, nr)), Dv=sp.csr_array((0, nr)),
-        Dh=sp.csr_array((0, nr)), assembly=assembly, links=link_maps, name=assembly.name)
-    return _with_sensors(base, assembly)
+        Dh=sp.csr_array((0, nr)), assembly=assembly, links=links, name=assembly.name)
+    warnings = require_plausible(base)    # hopeless sizes: InputError naming the value
+    if warnings:
+        base = replace(base, warnings=warnings,
+                       assembly=assembly.replace(warnings=assembly.warnings + warnings))
+    return _with_sensors(base, base.assembly)
+
+
+class _ElementSum:
+    """Links of types without ``batch``: their 12 x 12 element matrices, one by one."""
+
+    def __init__(self, n: int, nr: int):
+        self.mats = {key: _Triplets((n, n)) for key in ("k", "c", "h")}
+        self.bmat = {key: _Triplets((n, nr)) for key in ("k", "c", "h")}
+        self.link_maps: dict[str, LinkMap] = {}
+        self.n, self.nr = n, nr
+
+    def add(self, link: Any, em: ElementMatrices, layout: _Layout) -> None:
+        cols_a, maps_a, road_a = layout.ends([link.a], np.asarray(em.points[0], float)[None])
+        cols_b, maps_b, road_b = layout.ends([link.b], np.asarray(em.points[1], float)[None])
+        cols12 = np.concatenate([cols_a[0], cols_b[0]])
+        T = np.zeros((12, 12))
+        T[:6, :6], T[6:, 6:] = maps_a[0], maps_b[0]
+        keep = cols12 >= 0
+        cols, T = cols12[keep], T[:, keep]
+        roads = [(6 * i, int(r[0])) for i, r in enumerate((road_a, road_b)) if r[0] >= 0]
+        for key, E in (("k", em.K), ("c", em.C), ("h", em.H)):
+            if not E.any():
+                continue
+            self.mats[key].add(cols, cols, T.T @ E @ T)
+            for off, j in roads:
+                self.bmat[key].add(cols, np.array([j]), -(T.T @ E[:, off:off + 6] @ _EZ)[:, None])
+        self.link_maps[link.name] = LinkMap(
+            cols, em.deflection @ T, np.array([j for _, j in roads], dtype=int),
+            np.column_stack([em.deflection[:, off:off + 6] @ _EZ for off, _ in roads])
+            if roads else np.zeros((em.deflection.shape[0], 0)),
+            em.stiffness, em.damping, em.loss_factor, em.components, em.units, self.n, self.nr)
+
+
+class _LinkMaps(Mapping):
+    """``LinearModel.links``: each link's LinkMap, cut from the stacked deflection maps
+    when first asked for."""
+
+    def __init__(self, order: list[str], G: sp.csr_array, R: sp.csr_array,
+                 comps: _Components, eager: dict[str, LinkMap], n: int, nr: int):
+        self._order, self._G, self._R, self._eager = order, G, R, eager
+        self._rows = comps.rows
+        self._k, self._c = comps.values("k"), comps.values("c")
+        self._n, self._nr = n, nr
+        self._cache: dict[str, LinkMap] = {}
+
+    def __iter__(self):
+        return iter(self._order)
+
+    def __len__(self) -> int:
+        return len(self._order)
+
+    def __contains__(self, name: object) -> bool:
+        return name in self._eager or name in self._rows
+
+    def __getitem__(self, name: str) -> LinkMap:
+        if name in self._eager:
+            return self._eager[name]
+        if name not in self._cache:
+            if name not in self._rows:
+                raise KeyError(name)
+            self._cache[name] = self._build(name)
+        return self._cache[name]
+
+    def diagonal_shares(self) -> sp.csr_array:
+        """(links, n): each link's share of the stiffness diagonal, sum_c k_c D_cj^2."""
+        index = {name: i for i, name in enumerate(self._order)}
+        owner = np.zeros(self._G.shape[0], dtype=int)
+        for name, (start, m, *_rest) in self._rows.items():
+            owner[start:start + m] = index[name]
+        squares = sp.diags_array(self._k) @ self._G.multiply(self._G)
+        member = sp.csr_array((np.ones(len(owner)), (owner, np.arange(len(owner)))),
+                              shape=(len(self._order), self._G.shape[0]))
+        out = sp.lil_array(member @ squares)
+        for name, lm in self._eager.items():
+            out[[index[name]], lm.cols] = (lm.stiffness[:, None] * lm.Dq ** 2).sum(axis=0)
+        return sp.csr_array(out)
+
+    def _build(self, name: str) -> LinkMap:
+        start, m, eta, components, units = self._rows[name]
+        cols, Dq = _dense_rows(self._G, start, m)
+        roads, Dr = _dense_rows(self._R, start, m)
+        rows = slice(start, start + m)
+        return LinkMap(cols, Dq, roads, Dr, self._k[rows].copy(), self._c[rows].copy(), eta,
+                       components, units, self._n, self._nr)
+
+
+def _dense_rows(A: sp.csr_array, start: int, m: int) -> tuple[np.ndarray, np.ndarray]:
+    """Rows start..start+m of a CSR matrix as (columns used, dense m x len(columns))."""
+    lo, hi = A.indptr[start], A.indptr[start + m]
+    idx, data = A.indices[lo:hi], A.data[lo:hi]
+    counts = np.diff(A.indptr[start:start + m + 1])
+    cols = np.unique(idx)
+    out = np.zeros((m, len(cols)))
+    out[np.repeat(np.arange(m), counts), np.searchsorted(cols, idx)] = data
+    return cols.astype(int), out
 
 
 @dataclass(frozen=True, eq=False)

@@ -27,7 +27,6 @@ from collections.abc import Iterable, Sequence
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.sparse.linalg import splu
 
 from .assembly import Depth
 from .errors import InputError, Where
@@ -123,6 +122,8 @@ def _singular(Kss: sp.csc_array) -> bool:
 
 
 def _solve(Kss: sp.csc_array, rhs: np.ndarray) -> np.ndarray | None:
+    from scipy.sparse.linalg import splu  # here: not needed by every command at start-up
+
     try:
         X = splu(sp.csc_matrix(Kss)).solve(rhs)
     except RuntimeError:

@@ -19,9 +19,10 @@ import numpy as np
 import pytest
 import scipy.linalg
 
-from builder.analysis.checks import check_model, zero_frequency_modes
+from builder.analysis.checks import check_model
 from builder.analysis.corners import corner_figures
-from builder.eigen import lowest_modes
+from builder.eigen import lowest_modes, zero_frequency_modes
+from builder.errors import InputError
 from builder.linear import GRAVITY, assemble
 from builder.load import load_assembly, load_text
 
@@ -203,7 +204,7 @@ links:
     type: bushing
     a: {body: bracket, at: [0.1, 0, 0.6]}
     b: {body: body, at: [0.1, 0, 0.6]}
-    stiffness: {x: 1.0e9, y: 1.0e9, z: 1.0e9, rx: 1.0e8, ry: 1.0e8, rz: 1.0e8}
+    stiffness: {x: 1.0e9, y: 1.0e9, z: 1.0e9, rx: 1.0e5, ry: 1.0e5, rz: 1.0e5}
 """
 
 
@@ -217,10 +218,16 @@ def _bracket_text(tyre: bool = True) -> str:
 
 
 def test_a_stiff_small_part_does_not_turn_real_modes_into_zero_frequency_ones():
-    # The bracket's bolt (K/M up to 5e13 s^-2) made a threshold on the largest
-    # K_jj / M_jj call the 1 Hz body bounce "zero-frequency". The quarter car's
-    # two modes (analytic: the 2-DOF characteristic equation) must be found
-    # and no zero mode reported; without the tyre, exactly one (the free bounce).
+    # The bracket's bolt (K/M up to 5e10 s^-2, a 36 kHz bracket mode) must not
+    # turn real modes into zero-frequency ones: the quarter car's two modes
+    # (analytic: the 2-DOF characteristic equation) must be found and no zero
+    # mode reported; without the tyre, exactly one (the free bounce). A bolt a
+    # thousand times stiffer in rotation (1 MHz), which made a threshold on the
+    # largest K_jj / M_jj call the 1 Hz bounce "zero-frequency", is now refused
+    # as beyond any vehicle model before any analysis.
+    stiffer = _bracket_text().replace("rx: 1.0e5, ry: 1.0e5, rz: 1.0e5", "rx: 1.0e8, ry: 1.0e8, rz: 1.0e8")
+    with pytest.raises(InputError, match="links.bolt.*beyond any vehicle"):
+        assemble(load_text(stiffer))
     checks = check_model(assemble(load_text(_bracket_text())))
     assert checks.zero_modes == 0
     ms, mu, ks, kt = 300.05, 40.0, 20e3, 200e3

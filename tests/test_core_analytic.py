@@ -115,7 +115,10 @@ links: {{s: {{type: spring, a: b, b: ground, axis: z, stiffness: {k}, damping: {
 def test_loss_factor_gives_half_its_value_as_damping_ratio():
     # Analytic: a complex stiffness k (1 + i eta) behaves at resonance like
     # viscous damping with zeta = eta / 2 (e.g. Nashif, Jones & Henderson,
-    # "Vibration Damping", 1985). With c = eta k / wn exactly that.
+    # "Vibration Damping", 1985). With c = eta k / wn exactly that. By hand:
+    # k (1 + i eta) - w^2 m = 0 gives w^2 = (k/m)(1 + i eta), loss factor Im/Re,
+    # and the viscous eta k/|s| at the root's own |s| = wn gives
+    # s = wn (-eta/2 + i sqrt(1 - eta^2/4)), so fd = f sqrt(1 - eta^2/4).
     m, k, eta = 20.0, 5.0e4, 0.12
     text = f"""
 format: 1
@@ -125,8 +128,15 @@ links: {{s: {{type: bushing, a: b, b: ground, stiffness: {{z: {k}}}, loss_factor
 """
     model = assemble(load_text(text))
     assert model.H.toarray()[0, 0] == pytest.approx(eta * k)
-    mode = compute_modes(model)[0]
-    assert mode.damping_ratio == pytest.approx(eta / 2, rel=2e-3)
+    modes = compute_modes(model)
+    mode = modes[0]
+    lam = (k / m) * (1 + 1j * eta)
+    assert mode.damping_ratio == pytest.approx(lam.imag / (2 * lam.real), rel=1e-12)
+    assert mode.damped_frequency_hz == pytest.approx(
+        math.sqrt(lam.real * (1 - eta ** 2 / 4)) / TWO_PI, rel=1e-12)
+    assert abs(max(mode.roots, key=lambda s: s.imag)) == pytest.approx(math.sqrt(lam.real),
+                                                                        rel=1e-12)
+    assert any("loss factors" in n for n in modes.notes)
 
 
 FREE_PAIR = """

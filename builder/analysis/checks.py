@@ -24,7 +24,6 @@ body. The text summary fits one screen; :meth:`ModelChecks.table` with
 
 from __future__ import annotations
 
-import contextlib
 import math
 import textwrap
 from dataclasses import dataclass, field
@@ -34,12 +33,13 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
-from ..eigen import DENSE_LIMIT, lowest_modes, natural_frequencies_hz
+from ..eigen import DENSE_LIMIT, lowest_modes, natural_frequencies_hz, zero_frequency_modes
 from ..formatting import count, number, percent, text_table
 from ..linear import GRAVITY, LinearModel
+from ..threads import one_blas_thread
 from .corners import WHEEL_RATE_SOURCE, CornerFigures, corner_figures
 
-__all__ = ["ModelChecks", "check_model", "zero_frequency_modes", "SUMMARY_ROWS", "PLUGIN_MODES"]
+__all__ = ["ModelChecks", "check_model", "SUMMARY_ROWS", "PLUGIN_MODES"]
 
 #: Rows of a long table (static deflections, warnings) the summary shows ...
 SUMMARY_ROWS = 12
@@ -54,33 +54,8 @@ _MODES = 12
 #: ... and when an applied plugin has a ``check_summary`` hook, which gets them.
 PLUGIN_MODES = 24
 
-#: A mode is zero-frequency when its eigenvalue is below this many times its own
-#: round-off level (see :func:`zero_frequency_modes`).
-_ROUNDOFF_FACTOR = 3.0
-
-#: ... or below this omega^2 (rad^2/s^2): 0.001 Hz, far below any vehicle mode.
-_FLOOR = (2 * math.pi * 1e-3) ** 2
-
 #: Largest relative gap between road loads and weight of a trustworthy static solution.
 _BALANCE = 1e-6
-
-
-def zero_frequency_modes(K: Any, eigenvalues: np.ndarray, shapes: np.ndarray) -> np.ndarray:
-    """Which computed modes are zero-frequency (rigid-body or mechanism), a bool mask.
-
-    An eigenvalue omega^2 = phi^T K phi (phi M-normalised) is computed with a
-    round-off of about ``eps * |phi|^T |K| |phi|``: a mode whose eigenvalue is
-    within a few times that of zero cannot be told from a motion that strains
-    no link. The level is the mode's own, so that stiff short segments (large
-    K_jj / M_jj) do not turn the real low modes of the rest into "rigid" ones,
-    as a threshold on the largest K_jj / M_jj would.
-    """
-    lam = np.asarray(eigenvalues, dtype=float)
-    if lam.size == 0:
-        return np.zeros(0, dtype=bool)
-    a = np.abs(shapes)
-    level = np.finfo(float).eps * np.einsum("ij,ij->j", a, np.asarray(abs(K) @ a))
-    return lam <= np.maximum(_ROUNDOFF_FACTOR * level, _FLOOR)
 
 
 def _lowest_modes(model: LinearModel, count: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -372,20 +347,9 @@ def _corner_warnings(cf: CornerFigures) -> list[str]:
     return out
 
 
-def _one_blas_thread() -> contextlib.AbstractContextManager:
-    """One BLAS thread while the checks run: their dense kernels are small (blocks of
-    a few DOFs, Lanczos vectors) and threads only contend for them, several times
-    slower on a busy two-core machine. Without threadpoolctl, the default."""
-    try:
-        from threadpoolctl import threadpool_limits
-    except ImportError:  # pragma: no cover - threadpoolctl comes with scipy's stack
-        return contextlib.nullcontext()
-    return threadpool_limits(limits=1, user_api="blas")
-
-
 def check_model(model: LinearModel) -> ModelChecks:
     """Run every model check on an (unreduced) model."""
-    with _one_blas_thread():
+    with one_blas_thread():
         return _check_model(model)
 
 

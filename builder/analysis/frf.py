@@ -60,6 +60,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import InputError, Where
+from ..threads import blas_threads_for
 
 __all__ = ["FrequencyResponse", "frequency_response", "resolve_inputs", "SPARSE_LIMIT",
            "DEFAULT_BAND", "DEFAULT_POINTS", "ModalForm", "modal_form", "system_poles",
@@ -473,12 +474,13 @@ def frequency_response(model: Any, frequency_hz: ArrayLike, inputs: Sequence[Any
                              sparse=method == "sparse" or (method == "auto" and large))
     w = 2 * math.pi * f
     H, used = None, method
-    if method == "sparse" or (method == "auto" and large):
-        H, used = _sparse(sy, w), "sparse"
-    elif method == "modal" or (method == "auto" and f.size >= _MODAL_MIN_FREQUENCIES):
-        H, used = _modal(sy, w), "modal"
-    if H is None:
-        H, used = _direct(sy, w), "direct"
+    with blas_threads_for(2 * model.n):     # small dense problems: one BLAS thread
+        if method == "sparse" or (method == "auto" and large):
+            H, used = _sparse(sy, w), "sparse"
+        elif method == "modal" or (method == "auto" and f.size >= _MODAL_MIN_FREQUENCIES):
+            H, used = _modal(sy, w), "modal"
+        if H is None:
+            H, used = _direct(sy, w), "direct"
     if not np.all(np.isfinite(H)):
         bad = f[~np.all(np.isfinite(H), axis=(1, 2))][0]
         raise InputError(f"the response is unbounded at {bad:g} Hz (an undamped resonance, or "

@@ -1,13 +1,16 @@
 """Natural frequencies, mode shapes, damping and labels of a LinearModel.
 
 Undamped modes solve the generalised symmetric problem K phi = omega^2 M phi
-(shapes mass-normalised, phi^T M phi = 1). Damped modes come from the
-state-space eigenproblem of [[0, I], [-M^-1 K, -M^-1 C]] and are paired with
-the undamped ones by MAC on their displacement part; each pair gives a
-damping ratio zeta = -Re(s)/|s| and a damped frequency |Im(s)|/(2 pi). An
-overdamped mode has two real roots s1, s2 instead, reported with
-zeta = -(s1 + s2) / (2 sqrt(s1 s2)) > 1. A loss factor (hysteretic H)
-counts at each mode's own frequency, as the equivalent viscous H/omega.
+(shapes mass-normalised, phi^T M phi = 1), in one eigensolve. The damped
+roots s of (s^2 M + s (C + H/|s|) + K) x = 0 come from that modal basis
+(:mod:`builder.analysis.damped`), each undamped mode paired with one root,
+once: a damping ratio zeta = -Re(s)/|s| and a damped frequency
+|Im(s)|/(2 pi). An overdamped mode has two real roots s1, s2 instead,
+reported with zeta = -(s1 + s2) / (2 sqrt(s1 s2)) > 1. A loss factor
+(hysteretic H) counts as the equivalent viscous H/|s| at the root's own
+natural frequency |s|: one DOF gets zeta = eta/2 exactly. Where the damping
+is not proportional it couples the undamped modes, and a damped frequency
+can then lie above the undamped one; the ModeSet's notes say so.
 
 Zero-frequency modes (rigid-body motion or a mechanism) are reported with
 frequency 0 and label ``rigid``, never an error.
@@ -23,24 +26,26 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
-import scipy.linalg
 
-from ..eigen import lowest_modes
+from ..eigen import DENSE_LIMIT, lowest_modes, zero_frequency_modes
+from ..errors import InputError, Where
 from ..linear import LinearModel
+from ..threads import blas_threads_for
+from .damped import DampedModes, damped_modes
 from .labels import LabelContext, label_mode, plugin_label
 
 __all__ = ["Mode", "ModeSet", "compute_modes", "mac", "mac_matrix", "label_mode",
-           "DEFAULT_COUNT", "RIGID_TOLERANCE"]
+           "zero_frequency", "check_matrices", "DEFAULT_COUNT", "RIGID_TOLERANCE"]
 
 #: Modes computed by default for large models (all modes for small ones).
 DEFAULT_COUNT = 20
-_SMALL = 200  # models up to this size get exact damped modes per mode
 
 #: A mode is zero-frequency (rigid-body or mechanism) when omega^2 is below this
-#: fraction of the largest K_ii / M_ii of the model: far above round-off
-#: (about 1e-16 of it) and far below any physical mode.
-RIGID_TOLERANCE = 1e-11
-
+#: fraction of the largest K_ii / M_ii of the model: about 500 times the
+#: round-off of the eigenvalues (rigid-body modes come out near 1e-16 of it),
+#: so that a genuine slow mode next to one very stiff link is not taken for
+#: rigid motion (builder.plausibility warns about such links).
+RIGID_TOLERANCE = 1e-13
 
 
 @dataclass(frozen=True, eq=False)
@@ -142,21 +147,32 @@ def mac_matrix(A: np.ndarray, B: np.ndarray, mass: np.ndarray | None = None) -> 
 
 
 def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
-    """Undamped and damped modes of a model (all for small models, else ``count``)."""
+    """Undamped and damped modes of a model (all for small models, else ``count``).
+
+    The damping comes from the modes of a basis at least as large as the
+    modes reported: every mode for a model solved densely, ``count`` plus a
+    margin for a large one (see :mod:`builder.analysis.damped`).
+    """
     n = model.n
     if n == 0:
         return ModeSet(model, (), ("the model has no DOFs",))
-    count = n if (count is None and n <= 600) else min(count or DEFAULT_COUNT, n)
-    lam, shapes = lowest_modes(model.K, model.M, count)
-    Kd = np.abs(model.K.diagonal())
-    Md = np.abs(model.M.diagonal())
-    scale = float(np.max(Kd / np.where(Md > 0, Md, 1.0))) if n else 1.0
-    rigid = lam < RIGID_TOLERANCE * max(scale, 1e-300)
+    if count is not None and int(count) < 1:
+        raise InputError(f"the number of modes must be at least 1, got {count}",
+                         Where(field="--count"))
+    count = n if (count is None and n <= DENSE_LIMIT) else min(int(count or DEFAULT_COUNT), n)
+    check_matrices(model)
+    damped_model = model.C.nnz > 0 or model.H.nnz > 0
+    basis = n if n <= DENSE_LIMIT else (
+        min(n, count + max(count, DEFAULT_COUNT)) if damped_model else count)
+    with blas_threads_for(n):
+        lam, shapes = lowest_modes(model.K, model.M, basis)
+        rigid = zero_frequency(model, lam, shapes)
+        damped = damped_modes(model, shapes, lam, rigid)
+    lam, shapes, rigid = lam[:count], shapes[:, :count], rigid[:count]
     omega = np.sqrt(np.clip(lam, 0.0, None))
     omega[rigid] = 0.0
-    Mphi = np.asarray(model.M @ shapes)
-    energies = shapes * Mphi
-    damping = _damped(model, shapes, omega, rigid)
+    energies = shapes * np.asarray(model.M @ shapes)
+    damping = damped.modes[:count]
     # Labels read the motion of every body: a reduced model's shapes are
     # expanded to the full model first, so condensed and tied DOFs count.
     if model.parent is not None:
@@ -174,13 +190,51 @@ def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
             or label_mode(full, full_shapes[:, i], full_energy[:, i], context))
         modes.append(Mode(i + 1, float(omega[i] / (2 * math.pi)), zeta, fd, label,
                           shapes[:, i].copy(), energy, bool(rigid[i]), over, roots))
-    notes = []
+    root = model
+    while root.parent is not None:
+        root = root.parent
+    notes = [f"warning: {w}" for w in root.warnings]
     nr = int(rigid.sum())
     if nr:
         notes.append(_rigid_note(model, nr))
+    notes.extend(_damping_notes(modes, damped, len(lam), n))
     return ModeSet(model, tuple(modes), tuple(notes))
 
 
+def zero_frequency(model: LinearModel, eigenvalues: np.ndarray, shapes: np.ndarray
+                   ) -> np.ndarray:
+    """Which of the modes (eigenvalues omega^2 in rad^2/s^2, M-normalised shapes)
+    of ``model`` are zero-frequency: :func:`builder.eigen.zero_frequency_modes`."""
+    return zero_frequency_modes(model.K, eigenvalues, shapes)
+
+
+def _stiffness_scale(model: LinearModel) -> tuple[float, int]:
+    """The largest K_jj / M_jj (rad^2/s^2) and its DOF index."""
+    kd = np.abs(model.K.diagonal())
+    md = np.abs(model.M.diagonal())
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        ratio = np.where(md > 0, kd / np.where(md > 0, md, 1.0), 0.0)
+    j = int(np.argmax(ratio)) if ratio.size else 0
+    return (float(ratio[j]) if ratio.size else 0.0), j
+
+
+def check_matrices(model: LinearModel) -> None:
+    """InputError naming the first DOF whose mass or stiffness is not finite, or whose
+    mass is not positive (the eigen-solution needs M positive definite)."""
+    for name, A in (("mass", model.M), ("stiffness", model.K), ("damping", model.C),
+                    ("loss-factor stiffness", model.H)):
+        coo = A.tocoo()
+        bad = ~np.isfinite(coo.data)
+        if bad.any():
+            dof = model.dofs[int(coo.row[bad][0])]
+            raise InputError(f"the {name} on {dof} is not a finite number (a value overflowed): "
+                             "check the sizes of the masses, inertias and rates there",
+                             Where(field=dof))
+    md = model.M.diagonal()
+    if np.any(md <= 0):
+        dof = model.dofs[int(np.flatnonzero(md <= 0)[0])]
+        raise InputError(f"{dof} has no mass or inertia: every DOF needs a positive one",
+                         Where(field=dof))
 
 
 def _rigid_note(model: LinearModel, count: int) -> str:
@@ -188,88 +242,35 @@ def _rigid_note(model: LinearModel, count: int) -> str:
         any(lk.a.kind != "body" or lk.b.kind != "body"
             for lk in model.assembly.links.values()))
     what = "mechanism (unrestrained) modes" if anchored else "rigid-body modes"
-    return (f"{count} zero-frequency {what}: the model can move without deforming any link"
+    text = (f"{count} zero-frequency {what}: the model can move without deforming any link"
             + ("; check for a missing link or a DOF without stiffness" if anchored else ""))
+    scale, j = _stiffness_scale(model)
+    resolution = math.sqrt(RIGID_TOLERANCE * scale) / (2 * math.pi)
+    if resolution > 0.01:
+        text += (f" (here modes below {resolution:.2g} Hz cannot be told from zero in double "
+                 f"precision, because {model.dofs[j]} is so stiff for its mass: "
+                 f"{math.sqrt(scale) / (2 * math.pi):.3g} Hz)")
+    return text
 
 
-def _damped(model: LinearModel, shapes: np.ndarray, omega: np.ndarray, rigid: np.ndarray
-            ) -> list[tuple[float | None, float | None, bool, tuple[complex, ...]]]:
-    """(zeta, damped frequency Hz, overdamped, roots) for each undamped mode."""
-    count = shapes.shape[1]
-    no_damping = model.C.nnz == 0 and model.H.nnz == 0
-    out: list[tuple[float | None, float | None, bool, tuple[complex, ...]]] = []
-    if no_damping:
-        for i in range(count):
-            out.append((None, None, False, ()) if rigid[i] else
-                       (0.0, float(omega[i] / (2 * math.pi)), False,
-                        (1j * omega[i], -1j * omega[i])))
-        return out
-    if model.n > _SMALL:
-        return [_modal_estimate(model, shapes[:, i], omega[i], rigid[i]) for i in range(count)]
-    M, K, C, H = (m.toarray() for m in (model.M, model.K, model.C, model.H))
-    cache: dict[float, tuple[np.ndarray, np.ndarray, dict[int, int]]] = {}
-    has_h = model.H.nnz > 0
-    for i in range(count):
-        if rigid[i]:
-            out.append((None, None, False, ()))
-            continue
-        key = float(omega[i]) if has_h else 0.0
-        if key not in cache:
-            s, psi = _state_roots(M, K, C + (H / omega[i] if has_h else 0.0))
-            cache[key] = (s, psi, _assign(s, psi, shapes))
-        s, psi, assigned = cache[key]
-        out.append(_pair(i, s, psi, shapes, assigned[i]))
-    return out
-
-
-def _state_roots(M: np.ndarray, K: np.ndarray, C: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    n = M.shape[0]
-    A = np.block([[np.zeros((n, n)), np.eye(n)],
-                  [-np.linalg.solve(M, K), -np.linalg.solve(M, C)]])
-    s, v = scipy.linalg.eig(A)
-    return s, v[:n]
-
-
-def _assign(s: np.ndarray, psi: np.ndarray, shapes: np.ndarray) -> dict[int, int]:
-    """Mode index -> state-space root index, one-to-one by MAC (Hungarian assignment),
-    over the roots with Im(s) >= 0 (one of each conjugate pair, and the real ones)."""
-    from scipy.optimize import linear_sum_assignment
-
-    tol = 1e-9 * max(np.abs(s).max(), 1e-300)
-    cand = np.flatnonzero(s.imag >= -tol)
-    macs = mac_matrix(shapes, psi[:, cand])
-    rows, cols = linear_sum_assignment(1.0 - macs)
-    return {int(r): int(cand[c]) for r, c in zip(rows, cols)}
-
-
-def _pair(i: int, s: np.ndarray, psi: np.ndarray, shapes: np.ndarray, j: int
-          ) -> tuple[float | None, float | None, bool, tuple[complex, ...]]:
-    """Damping of undamped mode i from its assigned state-space root j."""
-    tol = 1e-9 * max(np.abs(s).max(), 1e-300)
-    root = s[j]
-    if abs(root.imag) > tol:
-        wn = abs(root)
-        return (float(-root.real / wn), float(abs(root.imag) / (2 * math.pi)), False,
-                (complex(root), complex(np.conj(root))))
-    real = [k for k in np.flatnonzero(np.abs(s.imag) <= tol) if k != j]
-    if not real:
-        return (None, None, True, (complex(root),))
-    k = max(real, key=lambda k: mac(shapes[:, i], psi[:, k]))
-    s1, s2 = float(root.real), float(s[k].real)
-    if s1 * s2 <= 0:
-        return (None, None, True, (complex(s1), complex(s2)))
-    wn = math.sqrt(s1 * s2)
-    return (float(-(s1 + s2) / (2 * wn)), None, True, (complex(s1), complex(s2)))
-
-
-def _modal_estimate(model: LinearModel, phi: np.ndarray, w: float, rigid: bool
-                    ) -> tuple[float | None, float | None, bool, tuple[complex, ...]]:
-    """Diagonal modal damping (large models): zeta = phi^T C phi/(2w) + phi^T H phi/(2w^2)."""
-    if rigid or w <= 0:
-        return (None, None, False, ())
-    zeta = float(phi @ (model.C @ phi)) / (2 * w) + float(phi @ (model.H @ phi)) / (2 * w * w)
-    if zeta >= 1.0:
-        return (zeta, None, True, ())
-    wd = w * math.sqrt(1 - zeta * zeta)
-    s = complex(-zeta * w, wd)
-    return (zeta, wd / (2 * math.pi), False, (s, s.conjugate()))
+def _damping_notes(modes: list[Mode], damped: DampedModes, count: int, n: int) -> list[str]:
+    """How the damping figures were obtained, where that is not obvious."""
+    notes = []
+    if damped.hysteretic:
+        notes.append("loss factors count as the viscous damping eta k / |s| at each root's own "
+                     "natural frequency |s| (one DOF: zeta = eta/2, fd = f sqrt(1 - eta^2/4))")
+    above = [m.number for m in modes if m.damped_frequency_hz is not None
+             and m.damped_frequency_hz > m.frequency_hz * (1 + 1e-9)]
+    if above:
+        listed = ", ".join(str(k) for k in above[:8]) + (", ..." if len(above) > 8 else "")
+        notes.append(f"fd above f (modes {listed}): the damping is not proportional, so it "
+                     "couples the undamped modes, and the coupling can raise a damped frequency "
+                     "above the undamped one")
+    error = damped.error(count)
+    if damped.basis < n and damped.basis_error(count) > 0:
+        notes.append(f"damping from the lowest {damped.basis} of {n} undamped modes: estimated "
+                     f"relative error of the roots up to {error:.1e}")
+    elif error > 1e-6:
+        notes.append(f"damped roots from modal subspaces: estimated relative error up to "
+                     f"{error:.1e}")
+    return notes

@@ -61,6 +61,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import InputError, Where
+from ..threads import blas_threads_for
 from . import comfort, road
 from .quadrature import Integral, adaptive_trapezoid
 
@@ -87,35 +88,6 @@ _MAX_POINTS = 100_000       # refinement budget, dense models
 _SPARSE_FACTOR = 3          # refinement budget of sparse models: this times the start
 _DELAY_POINTS = 20_000      # most evenly spaced points for the wheelbase delay ripple
 _COUPLED = 1e-8             # a cosine below this: the road or the sensor misses a mode
-
-
-_ONE_THREAD_DOFS = 600      # dense problems up to this size run on one BLAS thread
-_CONTROLLER: list[Any] = []
-
-
-def _blas_threads(n: int) -> Any:
-    """A context with one BLAS thread for a small dense model (n DOFs, 2n states).
-
-    On a small shared machine a threaded BLAS spends more time handing over
-    between threads than it gains on a 2n x 2n eigensolve of a few hundred
-    states, and its time swings by several times with the load (measured:
-    0.1 s on one thread, 0.6 to 2 s threaded, for n = 81); with one thread
-    the time is steady. Uses threadpoolctl when installed, else leaves the
-    setting alone.
-    """
-    from contextlib import nullcontext
-
-    if n > _ONE_THREAD_DOFS:
-        return nullcontext()
-    if not _CONTROLLER:
-        try:
-            from threadpoolctl import ThreadpoolController
-        except ImportError:                                   # pragma: no cover
-            _CONTROLLER.append(None)
-        else:
-            _CONTROLLER.append(ThreadpoolController())
-    controller = _CONTROLLER[0]
-    return nullcontext() if controller is None else controller.limit(limits=1)
 
 
 def frequency_grid(band: Sequence[float] = DEFAULT_BAND, points: int = DEFAULT_POINTS,
@@ -776,7 +748,7 @@ def ride_response(model: Any, road_class: str, speed_m_s: float, *, waviness: fl
     def spectrum(f: NDArray) -> NDArray:
         return road.road_cross_spectrum(f, v, positions, road_class, tracks, waviness)
 
-    with _blas_threads(model.n):
+    with blas_threads_for(2 * model.n):     # small dense problems: one BLAS thread
         return _ride(model, asm, names, spectrum, (fmin, fmax), points, frequency_hz,
                      (road_class, v, float(waviness), tracks), rtol)
 

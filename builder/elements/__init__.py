@@ -7,7 +7,12 @@ those to body DOFs, to ground (fixed) or to road inputs. An element also says
 how its deflection components are read from the point motions (rows of
 ``deflection``) and their stiffness and damping, which give link sensors.
 
-Link types register in :data:`LINK_TYPES`; plugins may add their own.
+Link types register in :data:`LINK_TYPES`; plugins may add their own. A
+type whose element matrices are all of the form K = D^T diag(k) D,
+C = D^T diag(c) D, H = eta K may also offer ``batch(links) ->
+ComponentBatch`` (the D, k, c and eta of many links at once, stacked); the
+assembler then builds the whole model from one sparse deflection map instead
+of link by link. The built-in spring, bushing and beam do.
 """
 
 from __future__ import annotations
@@ -22,8 +27,8 @@ from ..errors import Where
 from ..quantities import Quantity
 from ..yamlnodes import Node
 
-__all__ = ["ElementMatrices", "LinkType", "LINK_TYPES", "register_link_type", "local_frame",
-           "parse_frame", "parse_axis"]
+__all__ = ["ElementMatrices", "ComponentBatch", "LinkType", "LINK_TYPES", "register_link_type",
+           "local_frame", "parse_frame", "parse_axis"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -59,6 +64,32 @@ class ElementMatrices:
         C = D.T @ (c[:, None] * D)
         return ElementMatrices(points, _sym(K), _sym(C), _sym(loss_factor * K), D, k, c,
                                components, units, float(loss_factor))
+
+
+@dataclass(frozen=True, eq=False)
+class ComponentBatch:
+    """The deflection components of L links of one type, stacked: link l's element
+    matrices are K = D_l^T diag(k_l) D_l, C = D_l^T diag(c_l) D_l, H = eta_l K.
+
+    ``points_a``, ``points_b`` (L, 3): the points (m) whose six-vector motions
+    the element sees; ``deflection`` (L, m, 12); ``stiffness``, ``damping``
+    (L, m); ``loss_factor`` (L,); ``components`` and ``units`` (m each).
+    """
+
+    points_a: np.ndarray
+    points_b: np.ndarray
+    deflection: np.ndarray
+    stiffness: np.ndarray
+    damping: np.ndarray
+    loss_factor: np.ndarray
+    components: tuple[str, ...]
+    units: tuple[str, ...]
+
+    def element(self, i: int) -> ElementMatrices:
+        """The ElementMatrices of link ``i`` of the batch."""
+        return ElementMatrices.from_components(
+            (self.points_a[i], self.points_b[i]), self.deflection[i], self.stiffness[i],
+            self.damping[i], float(self.loss_factor[i]), self.components, self.units)
 
 
 def _sym(a: np.ndarray) -> np.ndarray:

@@ -30,7 +30,8 @@ component          deformation                               stiffness
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+import math
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -38,10 +39,16 @@ import numpy as np
 from ..errors import InputError, Where
 from ..quantities import Quantity
 from ..yamlnodes import Node
-from . import ElementMatrices, parse_axis, register_link_type
-from .beam_matrix import beam_global_stiffness, beam_rotation
+from . import ComponentBatch, ElementMatrices, parse_axis, register_link_type
+from .beam_matrix import (
+    beam_global_stiffness,
+    beam_rotation,  # noqa: F401  (re-exported, used by callers)
+    beam_rotations,
+    check_beam_axes,
+)
 
-__all__ = ["Beam", "beam_props", "default_section_axis", "natural_deformations", "COMPONENTS"]
+__all__ = ["Beam", "beam_props", "default_section_axis", "natural_deformations",
+           "natural_deformations_batch", "COMPONENTS"]
 
 COMPONENTS = ("axial", "twist", "bend_y", "bend_y_anti", "bend_z", "bend_z_anti")
 _UNITS = ("m", "rad", "rad", "rad", "rad", "rad")
@@ -49,8 +56,8 @@ _UNITS = ("m", "rad", "rad", "rad", "rad", "rad")
 
 def default_section_axis(pa: np.ndarray, pb: np.ndarray) -> np.ndarray:
     """Global z, or global x when the beam is within about 25 degrees of vertical."""
-    d = np.asarray(pb, dtype=float) - np.asarray(pa, dtype=float)
-    n = float(np.linalg.norm(d))
+    d = (np.asarray(pb, dtype=float).reshape(3) - np.asarray(pa, dtype=float).reshape(3)).tolist()
+    n = math.sqrt(d[0] ** 2 + d[1] ** 2 + d[2] ** 2)
     if n > 0 and abs(d[2]) > 0.9 * n:
         return np.array([1.0, 0.0, 0.0])
     return np.array([0.0, 0.0, 1.0])
@@ -75,10 +82,10 @@ def beam_props(pa: np.ndarray, pb: np.ndarray, EA: float, EIy: float, EIz: float
              "shear_z": None if shear_z is None else float(shear_z),
              "loss_factor": float(loss_factor)}
     # Validate now (points, frame, positivity) so that errors carry the place.
-    beam_rotation(pa, pb, hint, where)
+    check_beam_axes(pa, pb, hint, where)
     for key in ("EA", "EIy", "EIz", "GJ", "shear_y", "shear_z"):
         v = props[key]
-        if v is not None and not (np.isfinite(v) and v > 0):
+        if v is not None and not (math.isfinite(v) and v > 0):
             raise InputError(f"{key} must be a positive finite number, got {v!r}", where)
     return props
 
@@ -87,23 +94,38 @@ def natural_deformations(pa: np.ndarray, pb: np.ndarray, props: Mapping[str, Any
                          ) -> tuple[np.ndarray, np.ndarray]:
     """(D, k): the 6 x 12 map from the point motions (global) to the natural
     deformations of :data:`COMPONENTS`, and their stiffnesses (N/m, N m/rad)."""
-    r = beam_rotation(pa, pb, props["z_axis"])
-    length = float(np.linalg.norm(np.asarray(pb, float) - np.asarray(pa, float)))
-    d = np.zeros((6, 12))          # on local [u_a, th_a, u_b, th_b]
-    d[0, 0], d[0, 6] = -1.0, 1.0
-    d[1, 3], d[1, 9] = -1.0, 1.0
-    d[2, 4], d[2, 10] = -1.0, 1.0
-    d[3, 4], d[3, 10], d[3, 2], d[3, 8] = 1.0, 1.0, -2.0 / length, 2.0 / length
-    d[4, 5], d[4, 11] = -1.0, 1.0
-    d[5, 5], d[5, 11], d[5, 1], d[5, 7] = 1.0, 1.0, 2.0 / length, -2.0 / length
-    t = np.kron(np.eye(4), r)
-    sy, sz = props["shear_y"], props["shear_z"]
-    phi_y = 0.0 if sy is None else 12 * props["EIz"] / (sy * length ** 2)
-    phi_z = 0.0 if sz is None else 12 * props["EIy"] / (sz * length ** 2)
-    k = np.array([props["EA"] / length, props["GJ"] / length,
-                  props["EIy"] / length, 3 * props["EIy"] / (length * (1 + phi_z)),
-                  props["EIz"] / length, 3 * props["EIz"] / (length * (1 + phi_y))])
-    return d @ t, k
+    D, k = natural_deformations_batch(np.asarray(pa, float)[None], np.asarray(pb, float)[None],
+                                      [props])
+    return D[0], k[0]
+
+
+def natural_deformations_batch(pa: np.ndarray, pb: np.ndarray,
+                               props: Sequence[Mapping[str, Any]]
+                               ) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`natural_deformations` of L beams: (L, 3) end points and their props
+    to D (L, 6, 12) and k (L, 6)."""
+    r = beam_rotations(pa, pb, np.array([p["z_axis"] for p in props], dtype=float))
+    length = np.linalg.norm(pb - pa, axis=1)
+    nb = len(length)
+    d = np.zeros((nb, 6, 12))          # on local [u_a, th_a, u_b, th_b]
+    d[:, 0, 0], d[:, 0, 6] = -1.0, 1.0
+    d[:, 1, 3], d[:, 1, 9] = -1.0, 1.0
+    d[:, 2, 4], d[:, 2, 10] = -1.0, 1.0
+    d[:, 3, 4], d[:, 3, 10], d[:, 3, 2], d[:, 3, 8] = 1.0, 1.0, -2.0 / length, 2.0 / length
+    d[:, 4, 5], d[:, 4, 11] = -1.0, 1.0
+    d[:, 5, 5], d[:, 5, 11], d[:, 5, 1], d[:, 5, 7] = 1.0, 1.0, 2.0 / length, -2.0 / length
+    # d @ kron(I4, R): each local triple is R times the global one.
+    D = np.einsum("lcti,lij->lctj", d.reshape(nb, 6, 4, 3), r).reshape(nb, 6, 12)
+    EA, GJ, EIy, EIz = (np.array([p[key] for p in props], dtype=float)
+                        for key in ("EA", "GJ", "EIy", "EIz"))
+    sy = np.array([np.inf if p["shear_y"] is None else p["shear_y"] for p in props], float)
+    sz = np.array([np.inf if p["shear_z"] is None else p["shear_z"] for p in props], float)
+    phi_y = 12 * EIz / (sy * length ** 2)
+    phi_z = 12 * EIy / (sz * length ** 2)
+    k = np.column_stack([EA / length, GJ / length, EIy / length,
+                         3 * EIy / (length * (1 + phi_z)), EIz / length,
+                         3 * EIz / (length * (1 + phi_y))])
+    return D, k
 
 
 class Beam:
@@ -128,6 +150,15 @@ class Beam:
             if "loss_factor" in fields else 0.0
         place = fields["frame"].where if "frame" in fields else where
         return beam_props(a.at, b.at, z_axis=hint, loss_factor=eta, where=place, **values)
+
+    def batch(self, links: Sequence[Any]) -> ComponentBatch:
+        """The six natural deformations of each beam (see :class:`ComponentBatch`)."""
+        pa = np.array([lk.a.at for lk in links], dtype=float).reshape(-1, 3)
+        pb = np.array([lk.b.at for lk in links], dtype=float).reshape(-1, 3)
+        props = [lk.props for lk in links]
+        D, k = natural_deformations_batch(pa, pb, props)
+        eta = np.array([p.get("loss_factor", 0.0) for p in props], dtype=float)
+        return ComponentBatch(pa, pb, D, k, np.zeros_like(k), eta, COMPONENTS, _UNITS)
 
     def matrices(self, link: Any) -> ElementMatrices:
         p = link.props

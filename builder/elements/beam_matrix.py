@@ -29,7 +29,10 @@ by construction, so the six rigid-body motions are null vectors.
 
 from __future__ import annotations
 
-__all__ = ["beam_local_stiffness", "beam_rotation", "beam_global_stiffness"]
+__all__ = ["beam_local_stiffness", "beam_rotation", "beam_rotations", "check_beam_axes",
+           "beam_global_stiffness"]
+
+import math
 
 import numpy as np
 
@@ -117,27 +120,42 @@ def beam_rotation(pa: np.ndarray, pb: np.ndarray, z_hint: np.ndarray,
     Raises InputError when the points coincide or the hint is (nearly, within
     about 0.06 degrees) parallel to the beam.
     """
-    pa = np.asarray(pa, dtype=float).reshape(3)
-    pb = np.asarray(pb, dtype=float).reshape(3)
-    axis = pb - pa
-    length = float(np.linalg.norm(axis))
-    if not np.isfinite(length) or length <= 1e-12 * max(1.0, float(np.linalg.norm(pa))):
+    check_beam_axes(pa, pb, z_hint, where)
+    return beam_rotations(np.asarray(pa, float).reshape(1, 3), np.asarray(pb, float).reshape(1, 3),
+                          np.asarray(z_hint, float).reshape(1, 3))[0]
+
+
+def check_beam_axes(pa, pb, z_hint, where: Where | None = None) -> None:
+    """The checks of :func:`beam_rotation` alone (plain float arithmetic: it runs once
+    per beam read): distinct finite points, a non-zero section axis across the beam."""
+    ax, ay, az = np.asarray(pa, dtype=float).reshape(3).tolist()
+    bx, by, bz = np.asarray(pb, dtype=float).reshape(3).tolist()
+    dx, dy, dz = bx - ax, by - ay, bz - az
+    length = math.sqrt(dx * dx + dy * dy + dz * dz)
+    if not math.isfinite(length) or length <= 1e-12 * max(1.0, math.sqrt(ax * ax + ay * ay
+                                                                         + az * az)):
         raise InputError("beam ends coincide: the element needs two distinct points", where)
-    x = axis / length
-    hint = np.asarray(z_hint, dtype=float).reshape(3)
-    hint_norm = float(np.linalg.norm(hint))
-    if not np.isfinite(hint_norm) or hint_norm == 0.0:
+    hx, hy, hz = np.asarray(z_hint, dtype=float).reshape(3).tolist()
+    norm = math.sqrt(hx * hx + hy * hy + hz * hz)
+    if not math.isfinite(norm) or norm == 0.0:
         raise InputError("beam frame z must be a non-zero vector", where)
-    z = hint / hint_norm
-    z = z - float(z @ x) * x
-    z_norm = float(np.linalg.norm(z))
-    if z_norm < 1e-3:
+    along = (hx * dx + hy * dy + hz * dz) / (norm * length)
+    if 1.0 - along * along < 1e-6:          # |z - (z.x) x| < 1e-3
         raise InputError("beam frame z is parallel to the beam axis; give a section axis "
                          "across the beam", where)
-    z = z / z_norm
-    y = np.array([z[1] * x[2] - z[2] * x[1], z[2] * x[0] - z[0] * x[2],
-                  z[0] * x[1] - z[1] * x[0]])             # z cross x
-    return np.vstack([x, y, z])
+
+
+def beam_rotations(pa: np.ndarray, pb: np.ndarray, z_hint: np.ndarray) -> np.ndarray:
+    """:func:`beam_rotation` of many beams at once, (L, 3) points and hints to
+    (L, 3, 3) rows of local axes, without the checks (done when a beam is read)."""
+    axis = np.asarray(pb, dtype=float) - np.asarray(pa, dtype=float)
+    x = axis / np.linalg.norm(axis, axis=1, keepdims=True)
+    z = np.asarray(z_hint, dtype=float)
+    z = z / np.linalg.norm(z, axis=1, keepdims=True)
+    z = z - np.sum(z * x, axis=1, keepdims=True) * x
+    z = z / np.linalg.norm(z, axis=1, keepdims=True)
+    y = np.cross(z, x)
+    return np.stack([x, y, z], axis=1)
 
 
 def beam_global_stiffness(pa: np.ndarray, pb: np.ndarray, z_hint: np.ndarray,

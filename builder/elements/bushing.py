@@ -8,7 +8,7 @@ D = [-R6, R6] and the global stiffness is R^T K_local R, as the format says.
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -16,7 +16,7 @@ import numpy as np
 from ..errors import Where
 from ..quantities import Quantity
 from ..yamlnodes import Node
-from . import ElementMatrices, parse_frame, register_link_type
+from . import ComponentBatch, ElementMatrices, parse_frame, register_link_type
 
 __all__ = ["Bushing", "bushing_props", "parse_six", "COMPONENTS", "STIFFNESS_DIMS",
            "DAMPING_DIMS"]
@@ -58,20 +58,28 @@ class Bushing:
         eta = fields["loss_factor"].quantity("dimensionless", parameters, "nonnegative") \
             if "loss_factor" in fields else 0.0
         props = bushing_props(frame, k, c, eta)
-        gap = float(np.linalg.norm(np.asarray(a.at) - np.asarray(b.at)))
+        with np.errstate(over="ignore", invalid="ignore"):
+            gap = float(np.linalg.norm(np.asarray(a.at) - np.asarray(b.at)))
         if gap > 1e-3:
             props["warning"] = (f"{where.prefix()}: the ends are {gap * 1000:.0f} mm apart; "
                                 "the bushing acts at end a's point")
         return props
 
     def matrices(self, link: Any) -> ElementMatrices:
-        p = link.props
-        R6 = np.zeros((6, 6))
-        R6[:3, :3] = R6[3:, 3:] = p["frame"]
-        D = np.hstack([-R6, R6])
-        return ElementMatrices.from_components(
-            (link.a.at, link.a.at), D, p["stiffness"], p["damping"], p["loss_factor"],
-            COMPONENTS, ("m",) * 3 + ("rad",) * 3)
+        return self.batch([link]).element(0)
+
+    def batch(self, links: Sequence[Any]) -> ComponentBatch:
+        """The six local components of each bushing (see :class:`ComponentBatch`)."""
+        frames = np.array([lk.props["frame"] for lk in links], dtype=float).reshape(-1, 3, 3)
+        D = np.zeros((len(links), 6, 12))
+        for off in (0, 3):
+            D[:, off:off + 3, off:off + 3] = -frames
+            D[:, off:off + 3, 6 + off:9 + off] = frames
+        pa = np.array([lk.a.at for lk in links], dtype=float).reshape(-1, 3)
+        k = np.array([lk.props["stiffness"] for lk in links], dtype=float).reshape(-1, 6)
+        c = np.array([lk.props["damping"] for lk in links], dtype=float).reshape(-1, 6)
+        eta = np.array([lk.props["loss_factor"] for lk in links], dtype=float)
+        return ComponentBatch(pa, pa.copy(), D, k, c, eta, COMPONENTS, ("m",) * 3 + ("rad",) * 3)
 
 
 register_link_type(Bushing())

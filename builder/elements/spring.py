@@ -16,7 +16,7 @@ spring, such as a seat cushion), end b counts as lying on the side of a that
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -24,7 +24,7 @@ import numpy as np
 from ..errors import InputError, Where
 from ..quantities import Quantity
 from ..yamlnodes import Node
-from . import ElementMatrices, parse_axis, register_link_type
+from . import ComponentBatch, ElementMatrices, parse_axis, register_link_type
 
 __all__ = ["Spring", "spring_props"]
 
@@ -64,23 +64,26 @@ class Spring:
         return props
 
     def matrices(self, link: Any) -> ElementMatrices:
-        p = link.props
-        n = p["axis"]
-        pa = np.asarray(link.a.at, float)
-        pb = _line_point(pa, n, np.asarray(link.b.at, float))
+        return self.batch([link]).element(0)
+
+    def batch(self, links: Sequence[Any]) -> ComponentBatch:
+        """The axial component of each spring (see :class:`ComponentBatch`)."""
+        n = np.array([lk.props["axis"] for lk in links], dtype=float).reshape(-1, 3)
+        pa = np.array([lk.a.at for lk in links], dtype=float).reshape(-1, 3)
+        pb = _line_point(pa, n, np.array([lk.b.at for lk in links], dtype=float).reshape(-1, 3))
         # compression positive: n . (u_b - u_a) when b lies against n from a, else its negative
-        sign = 1.0 if float(n @ (pb - pa)) < -1e-9 else -1.0
-        D = np.zeros((1, 12))
-        D[0, 0:3], D[0, 6:9] = -sign * n, sign * n
-        return ElementMatrices.from_components(
-            (pa, pb), D,
-            np.array([p["stiffness"]]), np.array([p["damping"]]), p["loss_factor"],
-            ("axial",), ("m",))
+        sign = np.where(np.einsum("ij,ij->i", n, pb - pa) < -1e-9, 1.0, -1.0)[:, None]
+        D = np.zeros((len(links), 1, 12))
+        D[:, 0, 0:3], D[:, 0, 6:9] = -sign * n, sign * n
+        props = np.array([[lk.props["stiffness"], lk.props["damping"], lk.props["loss_factor"]]
+                          for lk in links], dtype=float).reshape(-1, 3)
+        return ComponentBatch(pa, pb, D, props[:, :1], props[:, 1:2], props[:, 2],
+                              ("axial",), ("m",))
 
 
 def _line_point(pa: np.ndarray, n: np.ndarray, pb: np.ndarray) -> np.ndarray:
-    """The point of the line through pa along n nearest to pb (m)."""
-    return pa + n * float(n @ (pb - pa))
+    """The point of the line through pa along n nearest to pb (m); rows for many."""
+    return pa + n * np.sum(n * (pb - pa), axis=-1, keepdims=True)
 
 
 register_link_type(Spring())

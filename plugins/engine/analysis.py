@@ -32,7 +32,6 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 import scipy.linalg
-import scipy.optimize
 
 __all__ = [
     "Mount", "DIRECTIONS", "rigid_mass_matrix", "mount_matrices", "torque_roll_axis",
@@ -278,6 +277,8 @@ def isolation_crossover_ratio(damping_ratio: float = 0.0) -> float:
     Isolation (transmissibility below 1) starts above it. The result is
     sqrt(2) for any damping ratio.
     """
+    import scipy.optimize  # here, not at import: plugin discovery is on every command's path
+
     return float(scipy.optimize.brentq(
         lambda r: float(transmissibility(r, damping_ratio)) - 1.0, 1.0 + 1e-9, 10.0))
 
@@ -400,6 +401,8 @@ def scale_mount_rates(mass: float, cg: Sequence[float], inertia_3x3: np.ndarray,
         roll, bounce, _ = modes(p)
         return np.array([math.log(max(roll, 1e-12) / target_roll_hz),
                          math.log(max(bounce, 1e-12) / target_bounce_hz)])
+
+    import scipy.optimize  # here, not at import: plugin discovery is on every command's path
 
     sol = scipy.optimize.least_squares(residual, np.zeros(2), xtol=1e-12, ftol=1e-12,
                                        gtol=1e-12, bounds=([-6, -6], [6, 6]))

@@ -45,7 +45,6 @@ from __future__ import annotations
 from dataclasses import dataclass, field, replace
 
 import numpy as np
-from scipy.optimize import minimize_scalar
 
 __all__ = [
     "Segment", "Coupling", "ReportedPeak", "OccupantModel", "OCCUPANT_MODELS",
@@ -283,6 +282,8 @@ def resonance(model: OccupantModel, response: str = "apparent_mass",
     a, b = grid[max(i - 1, 0)], grid[min(i + 1, len(grid) - 1)]
     if b <= a:
         return float(grid[i]), float(mag[i])
+    from scipy.optimize import minimize_scalar  # here: plugin discovery runs on every command
+
     best = minimize_scalar(lambda x: -abs(func(model, x)[0]), bounds=(a, b), method="bounded",
                            options={"xatol": 1e-6})
     if -best.fun >= mag[i]:

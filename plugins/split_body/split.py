@@ -284,7 +284,8 @@ def split_body(assembly: Assembly, spec: SplitSpec) -> Assembly:
              for n, lk in assembly.links.items()}
     s_cg = float(b.cg @ lay.axis)
     line = b.cg - s_cg * lay.axis                      # a point of the axis line, at s = 0
-    z_hint = None if spec.z_axis is None else np.asarray(spec.z_axis, float)
+    z_hint = default_section_axis(line, line + lay.axis) if spec.z_axis is None \
+        else np.asarray(spec.z_axis, float)          # every beam runs along the axis
     width = max(2, len(str(lay.masses.size - 1)))
     for j in range(lay.masses.size - 1):
         pa = line + lay.centres[j] * lay.axis
@@ -299,7 +300,7 @@ def split_body(assembly: Assembly, spec: SplitSpec) -> Assembly:
                              spec.where)
         props = beam_props(pa, pb, sec["EA"], sec["EIy"], sec["EIz"], sec["GJ"],
                            sec["shear_y"], sec["shear_z"],
-                           z_axis=default_section_axis(pa, pb) if z_hint is None else z_hint,
+                           z_axis=z_hint,
                            loss_factor=spec.loss_factor, where=spec.where)
         links[name] = Link(name, "beam", End(names[j], pa), End(names[j + 1], pb), props,
                            spec.where)
