@@ -242,16 +242,35 @@ def merge_rigid_links(assembly: Assembly) -> Assembly:
 
 
 def inertia_is_physical(inertia: np.ndarray) -> str:
-    """Empty string if the tensor is symmetric positive definite and its principal
-    moments satisfy the triangle inequalities; otherwise the reason."""
-    if not np.allclose(inertia, inertia.T, rtol=1e-12, atol=1e-12 * np.abs(inertia).max()):
+    """Empty string if the tensor (kg m^2) is finite, symmetric, positive definite and its
+    principal moments satisfy the triangle inequalities; otherwise the reason.
+
+    The tensor is scaled by its largest entry before the eigenvalues are
+    taken, so that no size of entry (1e-300 or 1e300) makes LAPACK fail; a
+    diagonal tensor needs no eigenvalues at all.
+    """
+    t = np.asarray(inertia, dtype=float)
+    if t.shape != (3, 3) or not np.isfinite(t).all():
+        return "the tensor has entries that are not finite numbers"
+    scale = float(np.abs(t).max())
+    if scale == 0.0:
+        return "the tensor is zero (give the inertia of a body that rotates)"
+    u = t / scale
+    if np.abs(u - u.T).max() > 1e-12:
         return "the tensor is not symmetric"
-    moments = np.linalg.eigvalsh(inertia)
-    if moments[0] <= 0:
+    if not (u[0, 1] or u[0, 2] or u[1, 2]):
+        unit = np.sort(np.diag(u))
+    else:
+        try:
+            unit = np.linalg.eigvalsh(0.5 * (u + u.T))
+        except np.linalg.LinAlgError:
+            return "its principal moments cannot be computed"
+    moments = unit * scale
+    if unit[0] <= 0.0:
         return (f"the principal moments {', '.join(f'{m:.4g}' for m in moments)} kg m^2 "
                 "are not all positive")
     a, b, c = moments
-    if a + b < c * (1 - 1e-9):
+    if unit[0] + unit[1] < unit[2] * (1 - 1e-9):
         return (f"the principal moments {a:.4g}, {b:.4g}, {c:.4g} kg m^2 break the triangle "
                 "inequality (I1 + I2 >= I3)")
     return ""
