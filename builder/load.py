@@ -42,7 +42,7 @@ from .elements import LINK_TYPES, parse_axis
 from .errors import InputError, Where, shown
 from .kinematics import DOF_NAMES
 from .quantities import Quantity, resolve_parameters
-from .yamlnodes import Node, load_yaml, parse_yaml
+from .yamlnodes import Node, gc_paused, load_yaml, parse_yaml
 
 __all__ = ["load_assembly", "load_text", "parse_assembly", "check_depths", "MEASURES",
            "match_dofs", "parse_inertia"]
@@ -64,13 +64,16 @@ def load_assembly(path: str | os.PathLike[str],
     name the file does not define is an error.
     """
     root = load_yaml(path, str(path))
-    return parse_assembly(root, str(path), overrides)
+    with gc_paused():
+        return parse_assembly(root, str(path), overrides)
 
 
 def load_text(text: str, name: str = "<text>",
               overrides: Mapping[str, object] | None = None) -> Assembly:
     """Like :func:`load_assembly` for YAML text already in memory."""
-    return parse_assembly(parse_yaml(text, name), name, overrides)
+    root = parse_yaml(text, name)
+    with gc_paused():
+        return parse_assembly(root, name, overrides)
 
 
 def _check_name(node_where: Where, name: str, what: str) -> None:

@@ -522,19 +522,29 @@ def to_si(value: object, dimension: str, where: Where | None = None,
     not subnormal, at most the largest size of :data:`MAGNITUDES` and, when
     positive or non-negative and not zero, at least its smallest size.
     """
-    dim, noun = DIMENSIONS[dimension]
-    try:
-        q = parse_quantity(value, parameters)
-    except ValueError as exc:
-        raise _refused(value, dimension, sign, str(exc), where) from None
-    if q.dim != dim and not (q.dim == NONE and _is_plain(value, parameters)):
-        raise _refused(value, dimension, sign, _dim_text(q.dim), where)
-    v = q.value
-    if (sign == "positive" and not v > 0) or (sign == "nonnegative" and v < 0):
-        raise _refused(value, dimension, sign, "", where)
-    reason = _size_problem(v, dimension, sign)
-    if reason:
-        raise _refused(value, dimension, sign, reason, where)
+    cls = value.__class__
+    if cls is float or cls is int:   # a bare number (SI): the common case, kept short
+        try:
+            v = float(value)
+        except OverflowError:
+            raise _refused(value, dimension, sign, "the number is too large", where) from None
+    else:
+        try:
+            q = parse_quantity(value, parameters)
+        except ValueError as exc:
+            raise _refused(value, dimension, sign, str(exc), where) from None
+        if q.dim != DIMENSIONS[dimension][0] and not (
+                q.dim == NONE and _is_plain(value, parameters)):
+            raise _refused(value, dimension, sign, _dim_text(q.dim), where)
+        v = q.value
+    if (sign == "positive" and not v > 0) or (sign == "nonnegative" and v < 0) \
+            or v - v != 0.0:
+        raise _refused(value, dimension, sign, "" if v - v == 0.0 else "not a finite number",
+                       where)
+    low, high = _BOUNDS[dimension]
+    size = abs(v)
+    if size > high or (size < (_SMALLEST if sign == "any" else low) and v != 0.0):
+        raise _refused(value, dimension, sign, _size_problem(v, dimension, sign), where)
     return v
 
 
@@ -556,6 +566,8 @@ def _size_problem(v: float, dimension: str, sign: str) -> str:
 
 #: The smallest normal float: anything smaller (subnormal) is refused.
 _SMALLEST = 2.2250738585072014e-308
+_BOUNDS = {name: (max(MAGNITUDES.get(name, (0.0, math.inf))[0], _SMALLEST),
+                  MAGNITUDES.get(name, (0.0, math.inf))[1]) for name in DIMENSIONS}
 _SI_UNITS: dict[Dim, str] = {
     NONE: "", MASS: "kg", LENGTH: "m", TIME: "s", STIFFNESS: "N/m", (1, 0, -1): "N s/m",
     (1, 2, 0): "kg m^2", (1, 2, -2): "N m", (1, 2, -1): "N m s", (1, 1, -2): "N",
