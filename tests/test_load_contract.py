@@ -101,3 +101,26 @@ def test_plugin_error_names_file_line_and_field(write_yaml, run_cli):
     assert code == 2 and len(err.strip().splitlines()) == 1, err
     assert err.startswith(f'{path}:{line}: plugins[0].with.body: seat body "cabin" is not a '
                           "body"), err
+
+
+def test_city_bus_fixture_loads_with_point_masses_and_plugins():
+    # An invented 12 m bus (tests/data/models/city_bus.yaml): beam axles with roll, a ramp
+    # that only bounces (no inertia given), a rear engine and the driver's seat by plugins.
+    from pathlib import Path
+
+    from builder.load import load_assembly
+    from builder.reduce import reduce_to_depth
+    asm = load_assembly(Path(__file__).parent / "data" / "models" / "city_bus.yaml")
+    assert not asm.warnings
+    assert asm.bodies["tag_mass"].dofs == ("z",) and not asm.bodies["tag_mass"].inertia.any()
+    model = assemble(asm)
+    assert len(model.dofs) == 25
+    # Bounce, hand estimate (common practice, no source): each air spring in series with its
+    # tyres, all springs in parallel, carrying every mass but the axles'.
+    def series(a, b):
+        return a * b / (a + b)
+    k = 2 * series(250e3, 1.0e6) + 2 * series(350e3, 2.0e6)
+    m = sum(b.mass for n, b in asm.bodies.items() if not n.startswith("axle"))
+    f_hand = math.sqrt(k / m) / (2 * math.pi)
+    f_bounce = compute_modes(reduce_to_depth(model, asm.depths["bounce"])).frequencies_hz[0]
+    assert f_bounce == pytest.approx(f_hand, rel=0.03)
