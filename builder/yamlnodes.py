@@ -157,8 +157,12 @@ class Node:
     def quantity(self, dimension: str, parameters: Mapping[str, Quantity] | None = None,
                  sign: str = "any") -> float:
         """An SI float of the named dimension (see :func:`builder.quantities.to_si`)."""
-        value = self.shown() if self.is_map or self.is_list else (
-            self.raw if isinstance(self.value, str) else self.value)
+        value = self.value
+        cls = value.__class__
+        if cls is str:
+            value = self.raw if self.raw is not None else value
+        elif cls is dict or cls is list:
+            value = self.shown()
         try:
             return to_si(value, dimension, None, parameters, sign)
         except InputError as exc:   # the place is made only for the message
