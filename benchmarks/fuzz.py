@@ -119,12 +119,13 @@ def _options(command: str, plugin: str | None = None) -> list[tuple[str, bool]]:
     return out
 
 
-def make_cases(count: int, option_share: float, seed: int) -> list[dict]:
+def make_cases(count: int, option_share: float, seed: int,
+               extra: tuple[Path, ...] = ()) -> list[dict]:
     """The fuzz cases: ``argv`` with ``{FILE}``/``{TMP}`` placeholders and a file text."""
     from builder.cli import COMMANDS
 
     rng = random.Random(seed)
-    demos = {p.name: p.read_text() for p in sorted(ASSEMBLIES.glob("*.yaml"))}
+    demos = {p.name: p.read_text() for p in [*sorted(ASSEMBLIES.glob("*.yaml")), *extra]}
     names = list(demos)
     n_options = int(count * option_share)
     cases: list[dict] = []
@@ -203,6 +204,8 @@ def run_case(case: dict) -> dict:
     before = set(os.listdir(folder))
     out, err = io.StringIO(), io.StringIO()
     outcome = ""
+    home = os.getcwd()
+    os.chdir(folder)   # relative output paths land in the case's folder, never elsewhere
     try:
         with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
             try:
@@ -217,6 +220,8 @@ def run_case(case: dict) -> dict:
     except Exception as exc:   # the contract broken: record it
         outcome, code = _signature(exc), None
         err.write(traceback.format_exc())
+    finally:
+        os.chdir(home)
     stderr = err.getvalue()
     after = _files(folder) - before - {"a_folder.png/"}
     staging = [f for f in after if os.path.basename(f).startswith(".lumpgraph-")]
@@ -334,11 +339,14 @@ def main() -> int:
     ap.add_argument("--option-share", type=float, default=0.2)
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--out", default=os.path.join(tempfile.gettempdir(), "lumpgraph-fuzz"))
+    ap.add_argument("--extra", nargs="*", default=[], metavar="FILE",
+                    help="more valid assembly files to mutate beside assemblies/*.yaml")
     args = ap.parse_args()
     out = Path(args.out)
     shutil.rmtree(out, ignore_errors=True)
     out.mkdir(parents=True)
-    cases = make_cases(args.cases, args.option_share, args.seed)
+    cases = make_cases(args.cases, args.option_share, args.seed,
+                       tuple(Path(f).resolve() for f in args.extra))
     counts: Counter[str] = Counter()
     by_command: Counter[tuple[str, str]] = Counter()
     saved: Counter[str] = Counter()
