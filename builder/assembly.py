@@ -292,18 +292,41 @@ def merge_rigid_links(assembly: Assembly) -> Assembly:
 
 
 def inertia_is_physical(inertia: np.ndarray) -> str:
-    """Empty string if the tensor is symmetric positive definite and its principal
-    moments satisfy the triangle inequalities; otherwise the reason."""
-    if not np.allclose(inertia, inertia.T, rtol=1e-12, atol=1e-12 * np.abs(inertia).max()):
+    """Empty string if the tensor (kg m^2) is finite, symmetric, positive definite and its
+    principal moments satisfy the triangle inequalities; otherwise the reason.
+
+    The tensor is scaled by its largest entry before the eigenvalues are
+    taken, so that no size of entry (1e-300 or 1e300) makes LAPACK fail; a
+    diagonal tensor (every gyradius) needs no eigenvalues at all.
+    """
+    t = np.asarray(inertia, dtype=float)
+    if t.shape != (3, 3):
+        return "the tensor is not 3 x 3"
+    rows = t.tolist()
+    flat = rows[0] + rows[1] + rows[2]
+    if any(v - v != 0.0 for v in flat):
+        return "the tensor has entries that are not finite numbers"
+    scale = max(abs(v) for v in flat)
+    if scale == 0.0:
+        return "the tensor is zero (give the inertia of a body that rotates)"
+    (a, b, c), (d, e, f), (g, h, i) = rows
+    if max(abs(b - d), abs(c - g), abs(f - h)) > 1e-12 * scale:
         return "the tensor is not symmetric"
-    moments = np.linalg.eigvalsh(inertia)
-    if moments[0] <= 0:
+    if b == 0.0 and c == 0.0 and f == 0.0:
+        unit = np.sort(np.array([a, e, i])) / scale
+    else:
+        try:
+            unit = np.linalg.eigvalsh(0.5 * (t + t.T) / scale)
+        except np.linalg.LinAlgError:
+            return "its principal moments cannot be computed"
+    moments = unit * scale
+    if unit[0] <= 0.0:
         return (f"the principal moments {', '.join(f'{m:.4g}' for m in moments)} kg m^2 "
                 "are not all positive")
-    a, b, c = moments
-    if a + b < c * (1 - 1e-9):
-        return (f"the principal moments {a:.4g}, {b:.4g}, {c:.4g} kg m^2 break the triangle "
-                "inequality (I1 + I2 >= I3)")
+    if unit[0] + unit[1] < unit[2] * (1 - 1e-9):
+        m1, m2, m3 = moments
+        return (f"the principal moments {m1:.4g}, {m2:.4g}, {m3:.4g} kg m^2 break the "
+                "triangle inequality (I1 + I2 >= I3)")
     return ""
 
 

@@ -199,25 +199,48 @@ class LinearModel:
 # --------------------------------------------------------------- assemble --
 
 class _Triplets:
+    """Dense blocks at (rows, cols), summed into a sparse matrix. Blocks of one shape are
+    expanded into COO triplets together (a few numpy calls per shape, not per block), then
+    put back in the order they were added, so that sums round off as they always did."""
+
     def __init__(self, shape: tuple[int, int]):
         self.shape = shape
-        self.rows: list[np.ndarray] = []
-        self.cols: list[np.ndarray] = []
-        self.vals: list[np.ndarray] = []
+        self.count = 0
+        self.blocks: dict[tuple[int, int], list[tuple[int, np.ndarray, np.ndarray, Any]]] = {}
 
     def add(self, rows: np.ndarray, cols: np.ndarray, block: np.ndarray) -> None:
         if len(rows) == 0 or len(cols) == 0:
             return
-        self.rows.append(np.repeat(rows, len(cols)))
-        self.cols.append(np.tile(cols, len(rows)))
-        self.vals.append(np.asarray(block, float).ravel())
+        self.blocks.setdefault((len(rows), len(cols)), []).append(
+            (self.count, rows, cols, block))
+        self.count += 1
+
+    def _coo(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        rows, cols, vals, order, sizes = [], [], [], [], []
+        for (nr, nc), items in self.blocks.items():
+            n = len(items)
+            r = np.array([it[1] for it in items], dtype=np.int64).reshape(n, nr, 1)
+            c = np.array([it[2] for it in items], dtype=np.int64).reshape(n, 1, nc)
+            rows.append(np.broadcast_to(r, (n, nr, nc)).ravel())
+            cols.append(np.broadcast_to(c, (n, nr, nc)).ravel())
+            vals.append(np.concatenate([np.asarray(it[3], dtype=float).ravel() for it in items]))
+            order.append(np.array([it[0] for it in items]))
+            sizes.append(np.full(n, nr * nc))
+        r, c, v = np.concatenate(rows), np.concatenate(cols), np.concatenate(vals)
+        seq, size = np.concatenate(order), np.concatenate(sizes)
+        start = np.cumsum(size) - size                  # where each block sits now
+        first = np.argsort(seq, kind="stable")           # blocks in the order added
+        size, start = size[first], start[first]
+        offset = np.cumsum(size) - size                  # where each block goes
+        idx = np.repeat(start - offset, size) + np.arange(len(v))
+        return r[idx], c[idx], v[idx]
 
     def matrix(self, symmetric: bool = False) -> sp.csr_array:
         """The summed sparse matrix; ``symmetric`` averages it with its transpose
         (exact symmetry, whatever the round-off of the element products)."""
-        if not self.rows:
+        if not self.blocks:
             return sp.csr_array(self.shape)
-        r, c, v = (np.concatenate(x) for x in (self.rows, self.cols, self.vals))
+        r, c, v = self._coo()
         if symmetric:  # fold onto the upper triangle, averaging (i, j) and (j, i), then mirror
             v = np.where(r == c, v, 0.5 * v)
             r, c = np.minimum(r, c), np.maximum(r, c)

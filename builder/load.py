@@ -39,10 +39,10 @@ from .assembly import (
     merge_rigid_links,
 )
 from .elements import LINK_TYPES, parse_axis
-from .errors import InputError, Where
+from .errors import InputError, Where, shown
 from .kinematics import DOF_NAMES
 from .quantities import Quantity, resolve_parameters
-from .yamlnodes import Node, load_yaml, parse_yaml
+from .yamlnodes import Node, gc_paused, load_yaml, parse_yaml
 
 __all__ = ["load_assembly", "load_text", "parse_assembly", "check_depths", "MEASURES",
            "match_dofs", "parse_inertia"]
@@ -64,32 +64,35 @@ def load_assembly(path: str | os.PathLike[str],
     name the file does not define is an error.
     """
     root = load_yaml(path, str(path))
-    return parse_assembly(root, str(path), overrides)
+    with gc_paused():
+        return parse_assembly(root, str(path), overrides)
 
 
 def load_text(text: str, name: str = "<text>",
               overrides: Mapping[str, object] | None = None) -> Assembly:
     """Like :func:`load_assembly` for YAML text already in memory."""
-    return parse_assembly(parse_yaml(text, name), name, overrides)
+    root = parse_yaml(text, name)
+    with gc_paused():
+        return parse_assembly(root, name, overrides)
 
 
 def _check_name(node_where: Where, name: str, what: str) -> None:
     if not _NAME.match(name) or name in (GROUND, "road"):
         raise InputError(f'a {what} name must be letters, digits, "_" or "-" and not '
-                         f'"ground" or "road", got "{name}"', node_where)
+                         f'"ground" or "road", got {shown(name)}', node_where)
 
 
 def parse_assembly(root: Node, source: str,
                    overrides: Mapping[str, object] | None = None) -> Assembly:
     """Validate a parsed file (a :class:`Node` tree) into an Assembly."""
-    top = root.mapping(TOP_KEYS, required=("format", "bodies"), what="a mapping of sections")
+    top = root.mapping(TOP_KEYS, required=("format",), what="a mapping of sections")
     fmt = top["format"]
     if fmt.value != 1 or isinstance(fmt.value, bool):
         raise fmt.error(f"only format 1 is understood, got {fmt.shown()}")
     name = top["name"].text("a name") if "name" in top else os.path.basename(source)
     motion = top["motion"].choice(MOTIONS) if "motion" in top else "spatial"
     params = _parameters(top.get("parameters"), overrides, source)
-    bodies = _bodies(top["bodies"], MOTIONS[motion], params)
+    bodies = _bodies(top.get("bodies"), MOTIONS[motion], params)
     road = _road(top.get("road"), params)
     links, warnings = _links(top.get("links"), bodies, road, params)
     sensors = _sensors(top.get("sensors"), bodies, links, params)
@@ -99,6 +102,11 @@ def parse_assembly(root: Node, source: str,
         from .plugin import apply_plugins, validate_plugin_uses
         uses = validate_plugin_uses(top["plugins"], params)
         asm = apply_plugins(asm.replace(plugins=tuple(uses)), uses)
+    if not asm.bodies:
+        node = top.get("bodies")
+        raise InputError("the file defines no body and no plugin adds one: list bodies under "
+                         "bodies:, or use a plugin that adds them (such as engine)",
+                         node.where if node is not None else Where(source, 1, "bodies"))
     asm = merge_rigid_links(asm)
     depths = _depths(top.get("depths"), asm.dof_labels)
     return asm.replace(depths=depths)
@@ -147,7 +155,8 @@ def parse_inertia(fields: dict[str, Node], mass: float, where: Where,
         tensor = mass * np.diag(np.square(r))
         node = fields["gyradius"]
     else:
-        raise InputError("missing required key \"inertia\" (or \"gyradius\")", where)
+        raise InputError("missing required key \"inertia\" (or \"gyradius\"): a body with "
+                         "rotation DOFs needs its moments of inertia", where)
     reason = inertia_is_physical(tensor)
     if reason:
         raise node.error(f"not a physical inertia: {reason}")
@@ -178,23 +187,34 @@ def _shape(node: Node, params: Mapping[str, Quantity]) -> dict[str, Any]:
     return {"kind": kind, "size": np.array(size)}
 
 
-def _bodies(node: Node, default_dofs: tuple[str, ...],
+def _bodies(node: Node | None, default_dofs: tuple[str, ...],
             params: Mapping[str, Quantity]) -> dict[str, Body]:
+    """The ``bodies:`` section; empty or absent when plugins add the bodies.
+
+    Inertia (or gyradius) is required only of a body with a rotation DOF;
+    a body that only translates (``dofs: [z]``) is a point mass.
+    """
     out: dict[str, Body] = {}
+    if node is None or node.value is None:
+        return out
     entries = node.mapping(what="a mapping of body names to bodies")
-    if not entries:
-        raise node.error("must define at least one body")
     for name, bnode in entries.items():
         where = bnode.where
         _check_name(where, name, "body")
         f = bnode.mapping(BODY_KEYS, required=("mass", "cg"))
         mass = f["mass"].quantity("mass", params, "positive")
         cg = np.array(f["cg"].vector("length", params))
-        inertia = parse_inertia(f, mass, where, params)
         dofs = _dofs(f["dofs"]) if "dofs" in f else default_dofs
+        if "inertia" in f or "gyradius" in f or any(d in _ROTATIONS for d in dofs):
+            inertia = parse_inertia(f, mass, where, params)
+        else:
+            inertia = np.zeros((3, 3))
         shape = _shape(f["shape"], params) if "shape" in f else None
         out[name] = Body(name, mass, cg, inertia, dofs, shape, where)
     return out
+
+
+_ROTATIONS = ("rx", "ry", "rz")
 
 
 def _road(node: Node | None, params: Mapping[str, Quantity]) -> dict[str, RoadPoint]:
@@ -235,10 +255,10 @@ def _end(node: Node, bodies: Mapping[str, Body], road: Mapping[str, RoadPoint],
 
 
 def _unknown(what: str, name: str, known: Mapping[str, Any]) -> str:
-    hint = difflib.get_close_matches(name, list(known), n=1)
+    hint = difflib.get_close_matches(name, list(known), n=1) if len(name) < 100 else []
     tip = f' (did you mean "{hint[0]}"?)' if hint else (
         f" (known: {', '.join(list(known)[:12])})" if known else f" (no {what}s are defined)")
-    return f'unknown {what} "{name}"{tip}'
+    return f"unknown {what} {shown(name)}{tip}"
 
 
 def _links(node: Node | None, bodies: Mapping[str, Body], road: Mapping[str, RoadPoint],

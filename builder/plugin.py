@@ -248,12 +248,24 @@ def validate_plugin_uses(node: Node, parameters: Mapping[str, Quantity]) -> list
 def apply_plugins(assembly: Assembly, uses: Sequence[PluginUse]) -> Assembly:
     """Run the plugins in the order listed, each turning the graph into a new one."""
     for u in uses:
-        out = u.plugin.apply(assembly, u.spec)
+        try:
+            out = u.plugin.apply(assembly, u.spec)
+        except InputError as exc:
+            if exc.where.file:
+                raise
+            raise InputError(exc.reason, _in_block(u.where, exc.where)) from None
         if not isinstance(out, Assembly):
             raise InputError(f'plugin "{u.use}" returned {type(out).__name__}, '
                              "not an Assembly", u.where)
         assembly = out
     return assembly.replace(plugins=tuple(uses))
+
+
+def _in_block(block: Where, inner: Where) -> Where:
+    """The place of a plugin's error that names no file: its block in the file (a plugin's
+    fields are those of its ``with:`` mapping)."""
+    field = f"{block.field}.with.{inner.field}" if inner.field else block.field
+    return Where(block.file, block.line, field)
 
 
 def plugin_tables(assembly: Assembly, model: Any, **options: Any) -> list[tuple[str, str, Any]]:

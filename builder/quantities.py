@@ -20,6 +20,15 @@ numbers, parameter names, ``+ - * / **``, parentheses, the constant ``pi``
 and the functions ``sqrt``, ``sin``, ``cos``, ``tan`` (radians), ``abs``,
 ``min``, ``max``. Arithmetic carries dimensions, so ``${k_front * 1.1}`` is a
 stiffness when ``k_front`` is, and adding a length to a mass is an error.
+An expression is at most :data:`MAX_EXPRESSION_CHARS` characters and nests
+at most :data:`MAX_EXPRESSION_DEPTH` levels; overflow, division by zero and
+powers without a unit are errors, never infinities.
+
+Every value :func:`to_si` returns is finite, and its size lies within the
+field's :data:`MAGNITUDES` (no subnormal numbers, no 1e-308 kg wheel, no
+1e308 m point): bounds ten or more orders of magnitude beyond any vehicle or
+machine, there to catch slips and keep every product of the analysis finite
+(common practice, no source).
 
 >>> to_si("21 kN/m", "stiffness")
 21000.0
@@ -31,16 +40,18 @@ stiffness when ``k_front`` is, and adding a length to a mass is an error.
 
 from __future__ import annotations
 
+import functools
 import math
 import re
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 
-from .errors import InputError, Where
+from .errors import InputError, Where, shown
 
 __all__ = [
-    "Quantity", "DIMENSIONS", "to_si", "parse_quantity", "parse_unit",
+    "Quantity", "DIMENSIONS", "MAGNITUDES", "to_si", "parse_quantity", "parse_unit",
     "resolve_parameters", "dimension_noun", "MASS", "LENGTH", "STIFFNESS",
+    "MAX_EXPRESSION_CHARS", "MAX_EXPRESSION_DEPTH",
 ]
 
 Dim = tuple[int, int, int]  # exponents of (kg, m, s)
@@ -78,6 +89,46 @@ DIMENSIONS: dict[str, tuple[Dim, str]] = {
     "linear_density": ((1, -1, 0), "mass per length"),
     "spatial_frequency": ((0, -1, 0), "spatial frequency (cycles/m)"),
 }
+
+#: Plausible sizes of each named dimension, SI: (smallest nonzero size of a
+#: positive or non-negative field, largest size of any field). Coordinates and
+#: other signed fields may be as small as they like (rounding leaves 1e-17 m
+#: where 0 was meant) but not subnormal. Ten or more orders of magnitude beyond
+#: any road vehicle or machine (common practice, no source).
+MAGNITUDES: dict[str, tuple[float, float]] = {
+    "dimensionless": (1e-12, 1e12),
+    "mass": (1e-6, 1e9),
+    "length": (1e-9, 1e5),
+    "time": (1e-9, 1e7),
+    "area": (1e-18, 1e10),
+    "volume": (1e-27, 1e15),
+    "stiffness": (1e-6, 1e15),
+    "damping": (1e-6, 1e12),
+    "inertia": (1e-15, 1e12),
+    "rotational_stiffness": (1e-9, 1e15),
+    "rotational_damping": (1e-9, 1e12),
+    "torque": (1e-9, 1e15),
+    "force": (1e-9, 1e12),
+    "speed": (1e-9, 1e4),
+    "acceleration": (1e-12, 1e7),
+    "frequency": (1e-9, 1e7),
+    "angular_speed": (1e-9, 1e7),
+    "angle": (1e-12, 1e6),
+    "pressure": (1e-6, 1e14),
+    "area_moment": (1e-24, 1e8),
+    "flexural_rigidity": (1e-9, 1e16),
+    "density": (1e-6, 1e6),
+    "linear_density": (1e-9, 1e9),
+    "spatial_frequency": (1e-9, 1e6),
+}
+
+#: Longest ``${...}`` expression (characters) and deepest nesting of it.
+MAX_EXPRESSION_CHARS = 2000
+MAX_EXPRESSION_DEPTH = 50
+#: Longest chain of parameters defined through each other.
+MAX_PARAMETER_CHAIN = 50
+#: Largest power of a unit (``m^4`` is the largest any field needs).
+MAX_UNIT_POWER = 12
 
 _BASE: dict[str, tuple[float, Dim]] = {
     # name: (factor to SI, dimension); prefixable ones are listed below
@@ -122,32 +173,49 @@ class Quantity:
 
     def __add__(self, o: Quantity) -> Quantity:
         self._same(o, "add")
-        return Quantity(self.value + o.value, self.dim)
+        return Quantity(_finite(self.value + o.value), self.dim)
 
     def __sub__(self, o: Quantity) -> Quantity:
         self._same(o, "subtract")
-        return Quantity(self.value - o.value, self.dim)
+        return Quantity(_finite(self.value - o.value), self.dim)
 
     def __mul__(self, o: Quantity) -> Quantity:
-        return Quantity(self.value * o.value, _dim_add(self.dim, o.dim, 1))
+        return Quantity(_finite(self.value * o.value), _dim_add(self.dim, o.dim, 1))
 
     def __truediv__(self, o: Quantity) -> Quantity:
         if o.value == 0.0:
             raise ValueError("division by zero")
-        return Quantity(self.value / o.value, _dim_add(self.dim, o.dim, -1))
+        return Quantity(_finite(self.value / o.value), _dim_add(self.dim, o.dim, -1))
 
     def __pow__(self, o: Quantity) -> Quantity:
         if o.dim != NONE:
             raise ValueError("an exponent must be a plain number")
-        dim = tuple(d * o.value for d in self.dim)
+        e = o.value
+        if not math.isfinite(e) or (self.dim != NONE and abs(e) > MAX_UNIT_POWER):
+            raise ValueError(f"{_dim_text(self.dim)} to the power {e:g} has no unit"
+                             if self.dim != NONE else "the exponent is not a finite number")
+        dim = tuple(d * e for d in self.dim)
         if any(abs(d - round(d)) > 1e-12 for d in dim):
-            raise ValueError(f"{_dim_text(self.dim)} to the power {o.value:g} has no unit")
-        if self.value < 0 and o.value != int(o.value):
+            raise ValueError(f"{_dim_text(self.dim)} to the power {e:g} has no unit")
+        if self.value < 0 and e != int(e):
             raise ValueError("fractional power of a negative number")
-        return Quantity(self.value ** o.value, tuple(int(round(d)) for d in dim))
+        if self.value == 0 and e < 0:
+            raise ValueError("zero to a negative power")
+        try:
+            value = self.value ** e
+        except OverflowError:
+            raise ValueError("the power overflows") from None
+        return Quantity(_finite(value), tuple(int(round(d)) for d in dim))
 
     def __neg__(self) -> Quantity:
         return Quantity(-self.value, self.dim)
+
+
+def _finite(value: float) -> float:
+    """``value``, or ValueError when an operation overflowed (inf) or lost its meaning (nan)."""
+    if value - value != 0.0:  # inf or nan
+        raise ValueError("the result overflows (too large a number)")
+    return value
 
 
 def _dim_add(a: Dim, b: Dim, sign: int) -> Dim:
@@ -182,7 +250,7 @@ def _unit_factor(name: str) -> tuple[float, Dim]:
     if len(name) > 1 and name[0] in _PREFIXES and name[1:] in _BASE:
         f, d = _BASE[name[1:]]
         return _PREFIXES[name[0]] * f, d
-    raise ValueError(f"unknown unit {name!r}")
+    raise ValueError(f"unknown unit {shown(name)}")
 
 
 _FACTOR = re.compile(r"^([A-Za-zµ%1]+)(?:(?:\^|\*\*)([+-]?\d+))?$")
@@ -198,15 +266,21 @@ def parse_unit(text: str) -> tuple[float, Dim]:
         sign = 1 if i == 0 else -1
         words = [w for w in re.split(r"[\s*.]+", group) if w]
         if not words:
-            raise ValueError(f"bad unit {text!r}")
+            raise ValueError(f"bad unit {shown(text)}")
         for w in words:
             m = _FACTOR.match(w)
             if not m:
-                raise ValueError(f"bad unit {text!r}")
+                raise ValueError(f"bad unit {shown(text)}")
             f, d = _unit_factor(m.group(1))
-            p = int(m.group(2) or 1)
+            power = m.group(2) or "1"
+            p = int(power) if len(power) < 5 else MAX_UNIT_POWER + 1
+            if abs(p) > MAX_UNIT_POWER:
+                raise ValueError(f"the unit power {m.group(1)}^{power[:6]} is beyond "
+                                 f"{MAX_UNIT_POWER}")
             factor *= f ** (sign * p)
             dim = _dim_add(dim, tuple(x * p for x in d), sign)
+    if not 1e-60 < factor < 1e60:
+        raise ValueError(f"the unit {shown(text)} is out of range")
     return factor, dim
 
 
@@ -242,29 +316,45 @@ _FUNCS.update({
 })
 
 
+@functools.lru_cache(maxsize=4096)
+def _lex(text: str) -> tuple[tuple[str, str], ...]:
+    """The tokens of an expression (cached: a large file repeats the same few)."""
+    if len(text) > MAX_EXPRESSION_CHARS:
+        raise ValueError(f"the expression has {len(text)} characters; the limit is "
+                         f"{MAX_EXPRESSION_CHARS}")
+    out, pos = [], 0
+    text = text.rstrip()
+    while pos < len(text):
+        m = _TOKEN.match(text, pos)
+        if not m or m.end() == pos:
+            raise ValueError(f"unexpected {shown(text[pos:].strip()[:10])}")
+        kind = m.lastgroup or "op"
+        tok = m.group(kind)
+        if kind == "num" and not math.isfinite(float(tok)):
+            raise ValueError(f"the number {shown(tok)[1:-1]} is too large")
+        out.append((kind, "**" if tok == "^" else tok))
+        pos = m.end()
+    return tuple(out)
+
+
 class _Parser:
     """Recursive descent over: expr = term (('+'|'-') term)*;
     term = unary (('*'|'/') unary)*; unary = '-' unary | power;
-    power = atom ('**' unary)?; atom = number | name | name '(' args ')' | '(' expr ')'."""
+    power = atom ('**' unary)?; atom = number | name | name '(' args ')' | '(' expr ')'.
+    Nesting (parentheses, function calls, signs, exponents) is limited to
+    :data:`MAX_EXPRESSION_DEPTH` levels, far inside Python's recursion limit."""
 
     def __init__(self, text: str, lookup: Callable[[str], Quantity]):
-        self.tokens = self._lex(text)
+        self.tokens = _lex(text)
         self.i = 0
+        self.depth = 0
         self.lookup = lookup
 
-    @staticmethod
-    def _lex(text: str) -> list[tuple[str, str]]:
-        out, pos = [], 0
-        text = text.rstrip()
-        while pos < len(text):
-            m = _TOKEN.match(text, pos)
-            if not m or m.end() == pos:
-                raise ValueError(f"unexpected {text[pos:].strip()[:10]!r}")
-            kind = m.lastgroup or "op"
-            tok = m.group(kind)
-            out.append((kind, "**" if tok == "^" else tok))
-            pos = m.end()
-        return out
+    def _enter(self) -> None:
+        self.depth += 1
+        if self.depth > MAX_EXPRESSION_DEPTH:
+            raise ValueError(f"the expression nests more than {MAX_EXPRESSION_DEPTH} levels "
+                             "deep (parentheses, functions, signs or powers)")
 
     def peek(self) -> str | None:
         return self.tokens[self.i][1] if self.i < len(self.tokens) else None
@@ -280,7 +370,7 @@ class _Parser:
             raise ValueError("empty expression")
         q = self.expr()
         if self.i != len(self.tokens):
-            raise ValueError(f"unexpected {self.tokens[self.i][1]!r}")
+            raise ValueError(f"unexpected {shown(self.tokens[self.i][1])}")
         return q
 
     def expr(self) -> Quantity:
@@ -300,19 +390,28 @@ class _Parser:
         return q
 
     def unary(self) -> Quantity:
-        if self.peek() == "-":
-            self.take()
-            return -self.unary()
-        if self.peek() == "+":
-            self.take()
-            return self.unary()
-        return self.power()
+        if self.peek() not in ("-", "+"):
+            return self.power()
+        sign = self.take()[1]
+        self._enter()
+        q = self.unary()
+        self.depth -= 1
+        return -q if sign == "-" else q
 
     def power(self) -> Quantity:
         q = self.atom()
         if self.peek() == "**":
             self.take()
+            self._enter()
             q = q ** self.unary()
+            self.depth -= 1
+        return q
+
+    def nested(self) -> Quantity:
+        """An expression inside parentheses or a function's argument list."""
+        self._enter()
+        q = self.expr()
+        self.depth -= 1
         return q
 
     def atom(self) -> Quantity:
@@ -322,12 +421,12 @@ class _Parser:
         if kind == "name":
             if self.peek() == "(":
                 if tok not in _FUNCS:
-                    raise ValueError(f"unknown function {tok!r} (known: {', '.join(_FUNCS)})")
+                    raise ValueError(f"unknown function {shown(tok)} (known: {', '.join(_FUNCS)})")
                 self.take()
-                args = [self.expr()]
+                args = [self.nested()]
                 while self.peek() == ",":
                     self.take()
-                    args.append(self.expr())
+                    args.append(self.nested())
                 if self.take()[1] != ")":
                     raise ValueError("missing ')'")
                 if tok not in ("min", "max") and len(args) != 1:
@@ -337,11 +436,11 @@ class _Parser:
                 return Quantity(math.pi)
             return self.lookup(tok)
         if tok == "(":
-            q = self.expr()
+            q = self.nested()
             if self.take()[1] != ")":
                 raise ValueError("missing ')'")
             return q
-        raise ValueError(f"unexpected {tok!r}")
+        raise ValueError(f"unexpected {shown(tok)}")
 
 
 _NUMBER = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$")
@@ -355,44 +454,61 @@ def parse_quantity(value: object,
 
     A bare number is dimensionless here; :func:`to_si` reads a plain number
     as SI in whatever dimension the field asks for. Raises ValueError with
-    the reason.
+    the reason; the value of a Quantity returned is always finite.
     """
     if isinstance(value, Quantity):
         return value
     if isinstance(value, bool) or value is None:
         raise ValueError("not a number")
     if isinstance(value, int | float):
-        v = float(value)
+        try:
+            v = float(value)
+        except OverflowError:
+            raise ValueError("the number is too large") from None
         if not math.isfinite(v):
             raise ValueError("not a finite number")
         return Quantity(v)
     if not isinstance(value, str):
         raise ValueError("not a number")
+    if "${" not in value:
+        return _number_with_unit(value)
     m = _EXPR.match(value)
-    if m:
-        if callable(parameters):
-            lookup = parameters
-        else:
-            table = parameters or {}
-
-            def lookup(name: str) -> Quantity:
-                if name not in table:
-                    raise ValueError(f"unknown parameter {name!r}")
-                return table[name]
-        q = _Parser(m.group(1), lookup).parse()
-        unit = m.group(2)
+    if not m:
+        raise ValueError("not a number with a unit, nor ${expression} [unit]")
+    if callable(parameters):
+        lookup = parameters
     else:
-        m = _NUMBER.match(value)
-        if not m:
-            raise ValueError("not a number with a unit")
-        q = Quantity(float(m.group(1)))
-        unit = m.group(2)
+        table = parameters or {}
+
+        def lookup(name: str) -> Quantity:
+            if name not in table:
+                raise ValueError(f"unknown parameter {shown(name)}")
+            return table[name]
+    return _with_unit(_Parser(m.group(1), lookup).parse(), m.group(2))
+
+
+@functools.lru_cache(maxsize=4096)
+def _number_with_unit(value: str) -> Quantity:
+    """``"21 kN/m"`` as a Quantity (cached: a large file repeats the same few)."""
+    m = _NUMBER.match(value)
+    if not m:
+        raise ValueError("not a number with a unit")
+    if len(m.group(1)) > 100:
+        raise ValueError("a number of more than 100 characters")
+    return _with_unit(Quantity(float(m.group(1))), m.group(2))
+
+
+def _with_unit(q: Quantity, unit: str) -> Quantity:
+    """``q`` times the unit written after it; ValueError when the product is not finite."""
     if unit:
         f, d = parse_unit(unit)
         q = Quantity(q.value * f, _dim_add(q.dim, d, 1))
     if not math.isfinite(q.value):
-        raise ValueError("not a finite number")
+        raise ValueError("not a finite number (too large)")
     return q
+
+
+_SIGN_WORDS = {"positive": "positive ", "nonnegative": "non-negative "}
 
 
 def to_si(value: object, dimension: str, where: Where | None = None,
@@ -402,24 +518,79 @@ def to_si(value: object, dimension: str, where: Where | None = None,
 
     ``sign`` is ``"any"``, ``"positive"`` or ``"nonnegative"``. Errors are
     InputError at ``where`` worded for the user, e.g.
-    ``must be a positive mass, got "-3 kg"``.
+    ``must be a positive mass, got "-3 kg"``. The value returned is finite,
+    not subnormal, at most the largest size of :data:`MAGNITUDES` and, when
+    positive or non-negative and not zero, at least its smallest size.
     """
-    dim, noun = DIMENSIONS[dimension]
-    adj = {"positive": "positive ", "nonnegative": "non-negative "}.get(sign, "")
+    cls = value.__class__
+    if cls is float or cls is int:   # a bare number (SI): the common case, kept short
+        try:
+            v = float(value)
+        except OverflowError:
+            raise _refused(value, dimension, sign, "the number is too large", where) from None
+    else:
+        try:
+            q = parse_quantity(value, parameters)
+        except ValueError as exc:
+            raise _refused(value, dimension, sign, str(exc), where) from None
+        if q.dim != DIMENSIONS[dimension][0] and not (
+                q.dim == NONE and _is_plain(value, parameters)):
+            raise _refused(value, dimension, sign, _dim_text(q.dim), where)
+        v = q.value
+    if (sign == "positive" and not v > 0) or (sign == "nonnegative" and v < 0) \
+            or v - v != 0.0:
+        raise _refused(value, dimension, sign, "" if v - v == 0.0 else "not a finite number",
+                       where)
+    low, high = _BOUNDS[dimension]
+    size = abs(v)
+    if size > high or (size < (_SMALLEST if sign == "any" else low) and v != 0.0):
+        raise _refused(value, dimension, sign, _size_problem(v, dimension, sign), where)
+    return v
+
+
+def _size_problem(v: float, dimension: str, sign: str) -> str:
+    """Why ``v`` (SI) is out of the plausible range of its dimension, or ``""``."""
+    size = abs(v)
+    low, high = MAGNITUDES.get(dimension, (0.0, math.inf))
+    low = max(low, _SMALLEST) if sign != "any" else _SMALLEST
+    if size <= high and (size >= low or v == 0.0):
+        return ""
+    unit = _SI_UNITS.get(DIMENSIONS[dimension][0], "SI")
+    if size > high:
+        return f"{v:.3g} {unit} is beyond any machine; the largest accepted is {high:g}"
+    if sign == "any":
+        return f"{v:.3g} {unit} is below the smallest normal number; write 0"
+    zero = ", or write 0" if sign == "nonnegative" else ""
+    return f"{v:.3g} {unit} is implausibly small; the smallest accepted is {low:g}{zero}"
+
+
+#: The smallest normal float: anything smaller (subnormal) is refused.
+_SMALLEST = 2.2250738585072014e-308
+_BOUNDS = {name: (max(MAGNITUDES.get(name, (0.0, math.inf))[0], _SMALLEST),
+                  MAGNITUDES.get(name, (0.0, math.inf))[1]) for name in DIMENSIONS}
+_SI_UNITS: dict[Dim, str] = {
+    NONE: "", MASS: "kg", LENGTH: "m", TIME: "s", STIFFNESS: "N/m", (1, 0, -1): "N s/m",
+    (1, 2, 0): "kg m^2", (1, 2, -2): "N m", (1, 2, -1): "N m s", (1, 1, -2): "N",
+    (0, 1, -1): "m/s", (0, 1, -2): "m/s^2", (0, 0, -1): "1/s", (1, -1, -2): "Pa",
+    (0, 2, 0): "m^2", (0, 3, 0): "m^3", (0, 4, 0): "m^4", (1, 3, -2): "N m^2",
+    (1, -3, 0): "kg/m^3", (1, -1, 0): "kg/m", (0, -1, 0): "1/m",
+}
+
+
+def _refused(value: object, dimension: str, sign: str, reason: str,
+             where: Where | None) -> InputError:
+    """``must be a positive mass, got "-3 kg" (reason)``."""
+    noun = DIMENSIONS[dimension][1]
+    adj = _SIGN_WORDS.get(sign, "")
     article = "an" if (adj or noun)[0] in "aeiou" else "a"
-    shown = f'"{value}"' if isinstance(value, str) else repr(value)
     if isinstance(value, bool) or value is None:
-        shown = "nothing" if value is None else str(value).lower()
-    try:
-        q = parse_quantity(value, parameters)
-    except ValueError as exc:
-        raise InputError(f"must be {article} {adj}{noun}, got {shown} ({exc})", where) from None
-    if q.dim != dim and not (q.dim == NONE and _is_plain(value, parameters)):
-        raise InputError(
-            f"must be {article} {adj}{noun}, got {shown} ({_dim_text(q.dim)})", where)
-    if (sign == "positive" and not q.value > 0) or (sign == "nonnegative" and q.value < 0):
-        raise InputError(f"must be {article} {adj}{noun}, got {shown}", where)
-    return q.value
+        text = "nothing" if value is None else str(value).lower()
+    elif isinstance(value, Quantity):
+        text = f"{value.value:g}"
+    else:
+        text = shown(value)
+    tail = f" ({reason})" if reason else ""
+    return InputError(f"must be {article} {adj}{noun}, got {text}{tail}", where)
 
 
 def _is_plain(value: object, parameters: Mapping[str, Quantity] | None) -> bool:
@@ -452,10 +623,13 @@ def resolve_parameters(raw: Mapping[str, object], where: Callable[[str], Where]
         if name in done:
             return done[name]
         if name not in raw:
-            raise ValueError(f"unknown parameter {name!r}")
+            raise ValueError(f"unknown parameter {shown(name)}")
         if name in active:
             raise ValueError("parameters refer to each other in a cycle: "
                              + " -> ".join([*active[active.index(name):], name]))
+        if len(active) >= MAX_PARAMETER_CHAIN:
+            raise ValueError(f"parameters refer to each other more than {MAX_PARAMETER_CHAIN} "
+                             "deep")
         active.append(name)
         try:
             done[name] = parse_quantity(raw[name], get)
@@ -466,9 +640,9 @@ def resolve_parameters(raw: Mapping[str, object], where: Callable[[str], Where]
     for name in raw:
         if not re.fullmatch(r"[A-Za-z_][A-Za-z_0-9]*", str(name)) or name == "pi":
             raise InputError("a parameter name must be letters, digits and _ "
-                             f"(and not pi), got {name!r}", where(name))
+                             f"(and not pi), got {shown(name)}", where(name))
         try:
             get(name)
         except ValueError as exc:
-            raise InputError(f"bad value {raw[name]!r} ({exc})", where(name)) from None
+            raise InputError(f"bad value {shown(raw[name])} ({exc})", where(name)) from None
     return done

@@ -79,3 +79,75 @@ def test_unit_parser_denominator_rule():
     # kg/m s = kg/(m s), the SI unit of dynamic viscosity (Pa s)
     factor, dim = parse_unit("kg/m s")
     assert factor == 1.0 and dim == parse_unit("Pa s")[1] == (1, -1, -1)
+
+
+# -- robustness: every value to_si returns is finite and plausible (issue 12) ---------------
+
+@pytest.mark.parametrize("text, dim, sign, message", [
+    ("${10**400}", "mass", "positive", "the power overflows"),
+    ("${1e300 * 1e300}", "length", "any", "overflows"),
+    ("${1e300 / 1e-300}", "length", "any", "overflows"),
+    ("5 km^999", "length", "any", "unit power km^999"),
+    ("5 m^99999999999999999999", "length", "any", "unit power"),
+    ("${0**-1}", "mass", "positive", "zero to a negative power"),
+    ("${(k - k)**-1}", "length", "any", "zero to a negative power"),
+    ("${k**1e400}", "mass", "any", "1e400 is too large"),
+    ("${(-2)**1e400}", "mass", "any", "1e400 is too large"),
+    ("${k**20}", "stiffness", "any", "has no unit"),
+    ("1e400 kg", "mass", "any", "not a finite number"),
+    ("1e-308 kg", "mass", "positive", "implausibly small; the smallest accepted is 1e-06"),
+    ("1e-320", "length", "any", "below the smallest normal number; write 0"),
+    ("1e308", "length", "any", "beyond any machine; the largest accepted is 100000"),
+    ("1e30 N/m", "stiffness", "nonnegative", "beyond any machine"),
+    ("1e-30 N/m", "stiffness", "nonnegative", "implausibly small; the smallest accepted is "
+                                              "1e-06, or write 0"),
+    ("${" + "(" * 60 + "1" + ")" * 60 + "}", "mass", "any", "nests more than 50 levels"),
+    ("${" + "-" * 60 + "1}", "mass", "any", "nests more than 50 levels"),
+    ("${" + "sqrt(" * 60 + "1" + ")" * 60 + "}", "mass", "any", "nests more than 50 levels"),
+    ("${" + "2**" * 60 + "1}", "dimensionless", "any", "nests more than 50 levels"),
+    ("${" + "1+" * 1500 + "1}", "mass", "any", "the limit is 2000"),
+], ids=lambda v: v[:24] if isinstance(v, str) else None)
+def test_overflow_and_absurd_sizes_are_refused(text, dim, sign, message):
+    # Python raised OverflowError, ZeroDivisionError or RecursionError on these, or
+    # returned inf/nan/subnormal values that broke the eigen-solvers downstream.
+    params = {"k": Quantity(1000.0, (1, 0, -2))}
+    with pytest.raises(InputError) as err:
+        to_si(text, dim, Where("f.yaml", 3, "x"), params, sign)
+    assert message in str(err.value), str(err.value)
+    assert len(str(err.value)) < 300
+
+
+@pytest.mark.parametrize("value", [10 ** 400, 9 ** 5000], ids=["400 digits", "4772 digits"])
+def test_huge_python_integers(value):
+    # float(10**400) raised OverflowError; repr of a 5000-digit int raises ValueError.
+    with pytest.raises(InputError) as err:
+        to_si(value, "mass", Where("f.yaml", 3, "x"), None, "positive")
+    assert "too large" in str(err.value) and len(str(err.value)) < 200
+
+
+@pytest.mark.parametrize("text, dim, expected", [
+    ("${" + "(" * 40 + "2" + ")" * 40 + "} kg", "mass", 2.0),
+    ("${-(-(-(-3)))} m", "length", 3.0),
+    ("${0.3 - 0.1 * 3} m", "length", 0.3 - 0.1 * 3),   # rounding leaves -5.6e-17: accepted
+    ("0", "length", 0.0),
+    ("1e-6 kg", "mass", 1e-6),
+    ("2.1e11 Pa", "pressure", 2.1e11),
+    ("1e12 N/m", "stiffness", 1e12),
+], ids=lambda v: v[:24] if isinstance(v, str) else None)
+def test_plausible_values_still_pass(text, dim, expected):
+    assert to_si(text, dim, sign="any") == pytest.approx(expected, rel=1e-15, abs=0)
+
+
+def test_long_parameter_chain_is_refused_not_recursed():
+    raw = {f"p{i}": f"${{p{i + 1}}}" for i in range(2000)}
+    raw["p2000"] = "1 m"
+    with pytest.raises(InputError, match="more than 50 deep"):
+        resolve_parameters(raw, lambda n: Where("t", 1, n))
+
+
+def test_long_values_are_cut_and_escapes_shown():
+    with pytest.raises(InputError) as err:
+        to_si("\x1b[31m" + "9" * 5000 + " kg", "mass", Where("f.yaml", 3, "x"))
+    text = str(err.value)
+    assert "\x1b" not in text and "\\x1b[31m" in text
+    assert len(text) < 200 and "..." in text

@@ -178,7 +178,10 @@ def parse_engine_spec(fields: Mapping[str, Any], name: str, parameters: Mapping[
             raise node.error(f'two mounts are named "{m.name}"')
         seen.add(m.name)
     K, _, _ = an.mount_matrices(cg, mounts)
-    if np.linalg.matrix_rank(K, tol=1e-9 * np.abs(K).max()) < 6:
+    if not np.isfinite(K).all():
+        raise fields["mounts"].error("the mount stiffnesses and points give a stiffness "
+                                     "matrix that overflows (check their sizes and units)")
+    if _rank(K) < 6:
         raise fields["mounts"].error(
             "the mounts do not hold all six motions of the powertrain (add a mount, or "
             "rotational stiffness)")
@@ -187,6 +190,17 @@ def parse_engine_spec(fields: Mapping[str, Any], name: str, parameters: Mapping[
 
 
 _HELP = {p.name: p.help for p in PARAMETERS}
+
+
+def _rank(K: np.ndarray) -> int:
+    """Numerical rank of the 6 x 6 mount stiffness, scaled first (SVD never fails on it)."""
+    scale = float(np.abs(K).max())
+    if scale == 0.0:
+        return 0
+    try:
+        return int(np.linalg.matrix_rank(K / scale, tol=1e-9))
+    except np.linalg.LinAlgError:
+        return 0
 
 
 # ------------------------------------------------------------------ apply --

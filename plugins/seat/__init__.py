@@ -102,7 +102,8 @@ def parse_seat_spec(fields_: Mapping[str, Any], name: str,
         else:
             sign = "positive" if key in _POSITIVE else "nonnegative"
             values[key] = node.quantity(p.dimension, parameters, sign)
-    return SeatSpec(name=name, where=where, **values)
+    places = {key: node.where for key, node in fields_.items()}
+    return SeatSpec(name=name, where=where, places=places, **values)
 
 
 def _suffixed(path: str, name: str) -> str:

@@ -79,6 +79,8 @@ class SeatSpec:
     occupant: str = "boileau_rakheja_1998"
     occupant_mass: float = 75.0
     where: Where = field(default_factory=Where, compare=False)
+    #: the place of each field given in the file (errors found when the seat is built)
+    places: dict[str, Where] = field(default_factory=dict, compare=False)
 
     def occupant_model(self) -> OccupantModel:
         """The occupant model scaled to ``occupant_mass``."""
@@ -168,10 +170,11 @@ def add_seat(assembly: Assembly, spec: SeatSpec, where: Where | None = None) -> 
     if floor_body is None:
         known = ", ".join(assembly.bodies) or "none"
         raise InputError(f'seat body "{spec.body}" is not a body (bodies: {known})',
-                         where.child("body"))
+                         spec.places.get("body", where.child("body")))
     if spec.occupant not in OCCUPANT_MODELS:
         raise InputError(f'unknown occupant model "{spec.occupant}" '
-                         f'(models: {", ".join(OCCUPANT_MODELS)})', where.child("occupant"))
+                         f'(models: {", ".join(OCCUPANT_MODELS)})',
+                         spec.places.get("occupant", where.child("occupant")))
     if not spec.rails:
         raise InputError("give at least one rail point", where.child("rails"))
     names = seat_names(spec)
