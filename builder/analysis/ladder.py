@@ -18,6 +18,7 @@ from ..assembly import Assembly, Depth
 from ..errors import Where
 from ..linear import LinearModel
 from ..reduce import reduce_to_depth
+from .labels import vehicle_body
 from .modes import ModeSet, compute_modes, mac_matrix
 
 __all__ = ["Rung", "Ladder", "compute_ladder", "proposed_depths"]
@@ -72,14 +73,26 @@ class Ladder:
 
 
 def proposed_depths(assembly: Assembly) -> dict[str, Depth]:
-    """A ladder for a file without ``depths:``: main body bounce, bounce and pitch,
-    main body with everything on the road, then everything."""
-    if not assembly.bodies:
+    """A ladder for a file without ``depths:``: the vehicle body's bounce, its
+    bounce and pitch, the body with everything on the road, then (a split
+    body) all its segments with everything on the road.
+
+    The vehicle body is :func:`~builder.analysis.labels.vehicle_body`: the
+    heaviest body that no plugin added as a sub-system (a powertrain or a seat
+    never counts), the segments of a split body counting together. A split
+    body's rigid depths keep the segment nearest the body's cg.
+    """
+    unit = vehicle_body(assembly)
+    if unit is None:
         return {}
-    main = max(assembly.bodies.values(), key=lambda b: b.mass)
+    members = [assembly.bodies[b] for b in unit.bodies]
+    cg = sum(b.mass * b.cg for b in members) / sum(b.mass for b in members)
+    main = min(members, key=lambda b: float(np.linalg.norm(b.cg - cg)))
     road_bodies = [lk.a.node if lk.b.kind == "road" else lk.b.node
                    for lk in assembly.links.values()
                    if (lk.a.kind == "road") != (lk.b.kind == "road")]
+    wheels = [f"{b}.{d}" for b in dict.fromkeys(road_bodies) if b in assembly.bodies
+              and b not in unit.bodies for d in assembly.bodies[b].dofs]
     labels = assembly.dof_labels
     out: dict[str, Depth] = {}
 
@@ -91,9 +104,10 @@ def proposed_depths(assembly: Assembly) -> dict[str, Depth]:
 
     add("main_bounce", [f"{main.name}.z"])
     add("main_bounce_pitch", [f"{main.name}.z", f"{main.name}.ry"])
-    add("main_and_wheels", [f"{main.name}.{d}" for d in main.dofs]
-        + [f"{b}.{d}" for b in dict.fromkeys(road_bodies) if b in assembly.bodies
-           for d in assembly.bodies[b].dofs])
+    add("main_and_wheels", [f"{main.name}.{d}" for d in main.dofs] + wheels)
+    if len(members) > 1:
+        add("main_flexible_and_wheels",
+            [f"{b.name}.{d}" for b in members for d in b.dofs] + wheels)
     return out
 
 

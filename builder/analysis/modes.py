@@ -27,7 +27,7 @@ import scipy.linalg
 
 from ..eigen import lowest_modes
 from ..linear import LinearModel
-from .labels import LabelContext, label_mode, plugin_label
+from .labels import label_mode, label_modes
 
 __all__ = ["Mode", "ModeSet", "compute_modes", "mac", "mac_matrix", "label_mode",
            "DEFAULT_COUNT", "RIGID_TOLERANCE"]
@@ -157,21 +157,12 @@ def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
     Mphi = np.asarray(model.M @ shapes)
     energies = shapes * Mphi
     damping = _damped(model, shapes, omega, rigid)
-    # Labels read the motion of every body: a reduced model's shapes are
-    # expanded to the full model first, so condensed and tied DOFs count.
-    if model.parent is not None:
-        full, full_shapes = model.parent, np.asarray(model.expansion @ shapes)
-        full_energy = full_shapes * np.asarray(full.M @ full_shapes)
-    else:
-        full, full_shapes, full_energy = model, shapes, energies
-    context = LabelContext.of(full)
+    labels = label_modes(model, shapes, rigid)
     modes = []
     for i in range(count):
         energy = {d: float(e) for d, e in zip(model.dofs, energies[:, i])}
         zeta, fd, over, roots = damping[i]
-        label = "rigid" if rigid[i] else (
-            plugin_label(full, full_shapes[:, i], full_energy[:, i])
-            or label_mode(full, full_shapes[:, i], full_energy[:, i], context))
+        label = labels[i]
         modes.append(Mode(i + 1, float(omega[i] / (2 * math.pi)), zeta, fd, label,
                           shapes[:, i].copy(), energy, bool(rigid[i]), over, roots))
     notes = []
