@@ -68,7 +68,7 @@ import scipy.sparse as sp
 from ..kinematics import DOF_NAMES
 from ..linear import LinearModel
 
-__all__ = ["Motion", "BodyMotion", "LabelUnit", "RigidUnit", "Part", "ModeLabel",
+__all__ = ["Motion", "BodyMotion", "UnitMotion", "LabelUnit", "RigidUnit", "Part", "ModeLabel",
            "LabelContext", "label_modes", "describe_modes", "label_mode", "label_units",
            "vehicle_body", "rigid_motion", "ordinal", "DIRECTION_WORDS", "ORDINALS"]
 
@@ -145,6 +145,47 @@ class BodyMotion:
         return value, observed
 
 
+class UnitMotion(Sequence[BodyMotion]):
+    """A unit's bodies in one mode: a sequence of :class:`BodyMotion` (made when
+    asked for), and :meth:`six`, the same for all bodies at once as arrays."""
+
+    def __init__(self, ctx: LabelContext, k: int, phi: np.ndarray, energy: np.ndarray):
+        self._ctx, self._k, self._phi, self._energy = ctx, k, phi, energy
+        self._made: dict[int, BodyMotion] = {}
+
+    def __len__(self) -> int:
+        return len(self._ctx.units[self._k].bodies)
+
+    def __getitem__(self, i: Any) -> Any:
+        if isinstance(i, slice):
+            return [self[j] for j in range(*i.indices(len(self)))]
+        i = range(len(self))[i]
+        if i not in self._made:
+            rows, dofs = self._ctx.index[self._k][i]
+            name = self._ctx.units[self._k].bodies[i]
+            asm = self._ctx.full.assembly
+            self._made[i] = BodyMotion(name, None if asm is None else asm.bodies.get(name),
+                                       dofs, self._phi[rows], self._ctx.observed[rows],
+                                       self._energy[rows])
+        return self._made[i]
+
+    @property
+    def share(self) -> float:
+        """The unit's share of the mode's kinetic energy."""
+        return float(self._energy[self._ctx.rows[self._k]].sum())
+
+    def six(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """(value, observed, energy), each (bodies, 6) over x, y, z, rx, ry, rz
+        (0 and False for DOFs a body lacks)."""
+        at = self._ctx.six_rows[self._k]
+        has = at >= 0
+        value, energy = np.zeros(at.shape), np.zeros(at.shape)
+        value[has], energy[has] = self._phi[at[has]], self._energy[at[has]]
+        observed = np.zeros(at.shape, dtype=bool)
+        observed[has] = self._ctx.observed[at[has]]
+        return value, observed, energy
+
+
 class LabelUnit:
     """A group of bodies named as one in labels (subclasses say how it moves).
 
@@ -159,7 +200,7 @@ class LabelUnit:
         self.name = name
         self.bodies = tuple(bodies)
 
-    def describe(self, bodies: Sequence[BodyMotion]) -> Motion | None:
+    def describe(self, bodies: UnitMotion) -> Motion | None:
         """The unit's motion (``bodies`` in the order of :attr:`bodies`), None if none."""
         raise NotImplementedError
 
@@ -176,7 +217,7 @@ class RigidUnit(LabelUnit):
         if on_road:
             self.words.update(_ON_ROAD_WORDS)
 
-    def describe(self, bodies: Sequence[BodyMotion]) -> Motion | None:
+    def describe(self, bodies: UnitMotion) -> Motion | None:
         b = bodies[0]
         return rigid_motion(b.dofs, b.energy, b.value, self.words)
 
@@ -302,6 +343,8 @@ class LabelContext:
     observed: np.ndarray
     units: tuple[LabelUnit, ...]
     index: tuple[tuple[tuple[np.ndarray, tuple[str, ...]], ...], ...]
+    rows: tuple[np.ndarray, ...]
+    six_rows: tuple[np.ndarray, ...]
     cgs: tuple[np.ndarray | None, ...]
     cg_x: float
     legacy: tuple[Callable[..., Any], ...] = ()
@@ -322,18 +365,25 @@ class LabelContext:
             units = label_units(asm)
         else:
             units = tuple(RigidUnit(b, b) for b in per_body)
-        index, cgs = [], []
+        index, rows, six_rows, cgs = [], [], [], []
         for u in units:
-            index.append(tuple((np.array(per_body.get(b, ([], []))[0], dtype=int),
-                                tuple(per_body.get(b, ([], []))[1])) for b in u.bodies))
+            entries = tuple((np.array(per_body.get(b, ([], []))[0], dtype=int),
+                             tuple(per_body.get(b, ([], []))[1])) for b in u.bodies)
+            index.append(entries)
+            rows.append(np.concatenate([r for r, _ in entries]) if entries
+                        else np.zeros(0, dtype=int))
+            at = np.full((len(entries), 6), -1, dtype=int)
+            for i, (r, dofs) in enumerate(entries):
+                at[i, [DOF_NAMES.index(d) for d in dofs]] = r
+            six_rows.append(at)
             cgs.append(_unit_cg(asm, u))
         cg_x = float(asm.mass_properties()[1][0]) if asm is not None and asm.bodies else 0.0
         legacy = tuple(use.plugin.label_mode for use in _plugin_uses(asm)
                        if getattr(use, "plugin", None) is not None
                        and not callable(getattr(use.plugin, "label_units", None))
                        and callable(getattr(use.plugin, "label_mode", None)))
-        return LabelContext(full, expansion, observed, units, tuple(index), tuple(cgs), cg_x,
-                            legacy)
+        return LabelContext(full, expansion, observed, units, tuple(index), tuple(rows),
+                            tuple(six_rows), tuple(cgs), cg_x, legacy)
 
 
 def _unit_cg(asm: Any, unit: LabelUnit) -> np.ndarray | None:
@@ -434,10 +484,9 @@ def _parts(ctx: LabelContext, phi: np.ndarray, energy: np.ndarray) -> list[Part]
         return []
     e = e / total
     parts = []
-    for unit, index, cg in zip(ctx.units, ctx.index, ctx.cgs, strict=True):
-        motions = [BodyMotion(b, _body(ctx, b), dofs, phi[rows], ctx.observed[rows], e[rows])
-                   for b, (rows, dofs) in zip(unit.bodies, index, strict=True)]
-        share = float(sum(m.energy.sum() for m in motions))
+    for k, (unit, cg) in enumerate(zip(ctx.units, ctx.cgs, strict=True)):
+        motions = UnitMotion(ctx, k, phi, e)
+        share = motions.share
         if share <= 1e-9:
             continue
         motion = unit.describe(motions)
@@ -445,11 +494,6 @@ def _parts(ctx: LabelContext, phi: np.ndarray, energy: np.ndarray) -> list[Part]
             parts.append(Part(unit, share, motion, cg))
     parts.sort(key=lambda p: -p.share)
     return parts
-
-
-def _body(ctx: LabelContext, name: str) -> Any:
-    asm = ctx.full.assembly
-    return None if asm is None else asm.bodies.get(name)
 
 
 def _legacy(ctx: LabelContext, phi: np.ndarray, energy: np.ndarray) -> str | None:
@@ -469,8 +513,8 @@ def _order(motion: Motion, earlier: list[tuple[int, Motion]], same: float = 0.3)
             if m.shape is None:
                 continue
             y, wy = m.shape
-            den = float((x @ wx) * (y @ wy))
-            mac = float(x @ wy) ** 2 / den if den > 0 else 0.0
+            den = _dot(x, wx) * _dot(y, wy)
+            mac = _dot(x, wy) ** 2 / den if den > 0 else 0.0
             if mac >= best:
                 best, order = mac, k
         if order:
@@ -478,16 +522,22 @@ def _order(motion: Motion, earlier: list[tuple[int, Motion]], same: float = 0.3)
     return max((k for k, _ in earlier), default=0) + 1
 
 
+def _dot(a: np.ndarray, b: np.ndarray) -> float:
+    # einsum, not BLAS: a threaded BLAS dot of long vectors stalls on a busy machine
+    return float(np.einsum("i,i->", a, b))
+
+
 def _link_phase(ctx: LabelContext, phi: np.ndarray, a: Part, b: Part) -> float:
     """phi_a^T K_ab phi_b over the two units' DOFs: < 0 when their motions relax the
     links between them (in phase), > 0 when they stretch them (opposed)."""
-    ra = np.concatenate([rows for rows, _ in ctx.index[ctx.units.index(a.unit)]])
-    rb = np.concatenate([rows for rows, _ in ctx.index[ctx.units.index(b.unit)]])
+    ra = ctx.rows[ctx.units.index(a.unit)]
+    rb = ctx.rows[ctx.units.index(b.unit)]
     if ra.size == 0 or rb.size == 0:
         return 0.0
     K = ctx.full.K.tocsr()
-    value = float(phi[ra] @ (K[ra][:, rb] @ phi[rb]))
-    scale = float(np.abs(phi[ra]) @ (abs(K[ra][:, rb]) @ np.abs(phi[rb])))
+    block = K[ra][:, rb]
+    value = _dot(phi[ra], block @ phi[rb])
+    scale = _dot(np.abs(phi[ra]), abs(block) @ np.abs(phi[rb]))
     return value if scale > 0 and abs(value) > 1e-6 * scale else 0.0
 
 

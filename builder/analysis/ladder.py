@@ -15,7 +15,7 @@ from typing import Any
 import numpy as np
 
 from ..assembly import Assembly, Depth
-from ..errors import Where
+from ..errors import InputError, Where
 from ..linear import LinearModel
 from ..reduce import reduce_to_depth
 from .labels import vehicle_body
@@ -49,12 +49,13 @@ class Ladder:
     full: ModeSet
     rungs: tuple[Rung, ...]
     proposed: bool
+    notes: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         return {"model": self.full.model.name, "proposed": self.proposed,
                 "full": {"dof_count": self.full.model.n,
                          "frequencies_hz": self.full.frequencies_hz.tolist()},
-                "depths": [r.to_dict() for r in self.rungs]}
+                "depths": [r.to_dict() for r in self.rungs], "notes": list(self.notes)}
 
     def table(self) -> str:
         lines = [f"full model: {self.full.model.n} DOFs"
@@ -69,6 +70,7 @@ class Ladder:
                 ff = self.full.modes[k - 1].frequency_hz if k else float("nan")
                 lines.append(f"  {m.number:>4} {m.frequency_hz:8.3f} {k:>5} {ff:8.3f} "
                              f"{c:6.3f} {100 * e:7.2f}%  {m.label}")
+        lines.extend(f"note: {n}" for n in self.notes)
         return "\n".join(lines)
 
 
@@ -112,15 +114,27 @@ def proposed_depths(assembly: Assembly) -> dict[str, Depth]:
 
 
 def compute_ladder(model: LinearModel, depths: dict[str, Depth] | None = None) -> Ladder:
-    """Modes of every depth (the file's, or proposed ones) matched to the full model."""
+    """Modes of every depth (the file's, or proposed ones) matched to the full model.
+
+    A proposed depth that cannot be condensed (the DOFs it leaves out can move
+    with it held: a mechanism) is left out, with a note; a file's depth is an
+    error then.
+    """
     asm = model.assembly
     proposed = not (depths or asm.depths)
     depths = depths or asm.depths or proposed_depths(asm)
     full = compute_modes(model)
     full_shapes = full.shapes
     rungs = []
+    notes = []
     for depth in depths.values():
-        reduced = reduce_to_depth(model, depth)
+        try:
+            reduced = reduce_to_depth(model, depth)
+        except InputError as err:
+            if not proposed:
+                raise
+            notes.append(f"proposed depth {depth.name} left out: {err.reason}")
+            continue
         ms = compute_modes(reduced)
         expanded = np.asarray(reduced.expansion @ ms.shapes) if reduced.parent is not None \
             else ms.shapes
@@ -133,4 +147,4 @@ def compute_ladder(model: LinearModel, depths: dict[str, Depth] | None = None) -
             ff = full.modes[k].frequency_hz if k >= 0 else float("nan")
             err.append((m.frequency_hz - ff) / ff if ff > 0 else 0.0)
         rungs.append(Rung(depth.name, reduced.dofs, ms, tuple(match), tuple(mv), tuple(err)))
-    return Ladder(full, tuple(rungs), proposed)
+    return Ladder(full, tuple(rungs), proposed, tuple(notes))

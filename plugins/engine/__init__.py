@@ -46,7 +46,7 @@ from typing import Any
 
 import numpy as np
 
-from builder.analysis.labels import LabelUnit, Motion, rigid_motion
+from builder.analysis.labels import LabelUnit, Motion, UnitMotion, rigid_motion
 from builder.assembly import Body, End, Link, Sensor
 from builder.errors import InputError, Where
 from builder.kinematics import DOF_NAMES
@@ -540,7 +540,7 @@ class _PowertrainUnit(LabelUnit):
         self.T = an.axes_transform(an.crank_aligned_axes(spec.crank_axis))
         self.Mp = self.T @ an.rigid_mass_matrix(spec.mass, spec.inertia) @ self.T.T
 
-    def describe(self, bodies: Any) -> Motion | None:
+    def describe(self, bodies: UnitMotion) -> Motion | None:
         b = bodies[0]
         q, observed = b.six()
         if not observed.all():

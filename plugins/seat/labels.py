@@ -20,7 +20,7 @@ from typing import Any
 
 import numpy as np
 
-from builder.analysis.labels import BodyMotion, LabelUnit, Motion, RigidUnit
+from builder.analysis.labels import LabelUnit, Motion, RigidUnit, UnitMotion
 
 from .build import SeatSpec, seat_names
 
@@ -52,7 +52,7 @@ class OccupantUnit(LabelUnit):
         super().__init__(name, (fore_aft, *segments))
         self.segment_words = list(segments.values())
 
-    def describe(self, bodies: list[BodyMotion]) -> Motion | None:
+    def describe(self, bodies: UnitMotion) -> Motion | None:
         fore_aft, segments = bodies[0], bodies[1:]
         e_x = float(fore_aft.energy.sum())
         e = np.array([float(s.energy.sum()) for s in segments])

@@ -37,8 +37,8 @@ from typing import Any
 import networkx as nx
 import numpy as np
 
-from builder.analysis.labels import BodyMotion, LabelUnit, Motion, rigid_motion
-from builder.kinematics import DOF_NAMES, motion_map
+from builder.analysis.labels import LabelUnit, Motion, UnitMotion, rigid_motion
+from builder.kinematics import DOF_NAMES, point_map_all
 
 __all__ = ["beam_chains", "ChainUnit", "split_units", "ELASTIC_FAMILIES"]
 
@@ -84,7 +84,7 @@ def _axis(cgs: np.ndarray) -> np.ndarray:
     """The line of the segment cgs (principal direction), pointing to +x (else +y, +z)."""
     if len(cgs) < 2:
         return np.array([1.0, 0.0, 0.0])
-    _, _, vt = np.linalg.svd(cgs - cgs.mean(axis=0))
+    _, _, vt = np.linalg.svd(cgs - cgs.mean(axis=0), full_matrices=False)
     axis = vt[0]
     lead = next(i for i in range(3) if abs(axis[i]) > 1e-9)
     return axis if axis[lead] > 0 else -axis
@@ -123,7 +123,10 @@ class ChainUnit(LabelUnit):
         self.start = float(self.s[0] - (self.s[1] - self.s[0]) / 2) if len(self.s) > 1 \
             else float(self.s[0])
         self.M6 = np.array([b.mass_matrix for b in bodies])
-        self.R = np.array([motion_map(c - self.centre) for c in self.cgs])   # rigid -> segment
+        # rigid motion about the centre -> each segment's motion at its cg
+        self.R = np.zeros((len(self.cgs), 6, 6))
+        self.R[:, :3, :] = point_map_all(self.cgs - self.centre)
+        self.R[:, 3:, 3:] = np.eye(3)
         self.Mr = np.einsum("nji,njk,nkl->il", self.R, self.M6, self.R)
         inertias = np.array([b.inertia for b in bodies], dtype=float)
         self.inertia = {key: np.einsum("i,nij,j->n", v, inertias, v)
@@ -154,10 +157,9 @@ class ChainUnit(LabelUnit):
             self._fits[key] = (selected, RS, WR, A, W)
         return self._fits[key]
 
-    def describe(self, bodies: list[BodyMotion]) -> Motion | None:
-        six = [b.six() for b in bodies]
-        observed = np.array([o for _, o in six])
-        q = np.array([v for v, _ in six]) * observed
+    def describe(self, bodies: UnitMotion) -> Motion | None:
+        q, observed, _ = bodies.six()
+        q = q * observed
         selected, RS, WR, A, W = self._fit(observed)
         c = np.linalg.solve(A, np.einsum("nji,nj->i", WR, q)) if selected else np.zeros(0)
         rigid_part = np.einsum("nij,j->ni", RS, c) if selected else np.zeros_like(q)
@@ -192,11 +194,13 @@ class ChainUnit(LabelUnit):
         w, v, u = t @ self.vertical, t @ self.lateral, t @ self.axis
         twist = r @ self.axis
         slope_w, slope_v = -(r @ self.lateral), r @ self.vertical   # dw/ds, dv/ds
-        energy = {"vertical bending": self.masses @ w ** 2
-                  + self.inertia["lateral"] @ slope_w ** 2,
-                  "lateral bending": self.masses @ v ** 2 + self.inertia["vertical"] @ slope_v ** 2,
-                  "torsion": self.inertia["axis"] @ twist ** 2,
-                  "axial": self.masses @ u ** 2}
+        dot = np.dot
+        energy = {"vertical bending": dot(self.masses, w ** 2)
+                  + dot(self.inertia["lateral"], slope_w ** 2),
+                  "lateral bending": dot(self.masses, v ** 2)
+                  + dot(self.inertia["vertical"], slope_v ** 2),
+                  "torsion": dot(self.inertia["axis"], twist ** 2),
+                  "axial": dot(self.masses, u ** 2)}
         kind = max(energy, key=energy.get)
         seen = observed.any(axis=1)
         if kind.endswith("bending"):
@@ -220,7 +224,7 @@ class ChainUnit(LabelUnit):
 def _against(slope: np.ndarray, gradient: np.ndarray) -> bool:
     """True when the segments' rotation opposes the slope of their deflection line."""
     den = float(np.linalg.norm(slope) * np.linalg.norm(gradient))
-    return den > 0 and float(slope @ gradient) / den < 0.0
+    return den > 0 and float(np.dot(slope, gradient)) / den < 0.0
 
 
 def _crossings(s: np.ndarray, values: np.ndarray, floor: float = 0.05) -> list[float]:
@@ -246,14 +250,11 @@ def _hermite(s: np.ndarray, w: np.ndarray, slope: np.ndarray, per: int = 16
     s = np.concatenate([[s[0] - d0], s, [s[-1] + d1]])
     w = np.concatenate([[w[0] - d0 * slope[0]], w, [w[-1] + d1 * slope[-1]]])
     slope = np.concatenate([[slope[0]], slope, [slope[-1]]])
-    t = np.linspace(0.0, 1.0, per, endpoint=False)
+    t = np.linspace(0.0, 1.0, per, endpoint=False)[None, :]
     h00, h10 = 2 * t ** 3 - 3 * t ** 2 + 1, t ** 3 - 2 * t ** 2 + t
     h01, h11 = -2 * t ** 3 + 3 * t ** 2, t ** 3 - t ** 2
-    pos, out = [], []
-    for i in range(len(s) - 1):
-        d = s[i + 1] - s[i]
-        pos.append(s[i] + t * d)
-        out.append(h00 * w[i] + h10 * d * slope[i] + h01 * w[i + 1] + h11 * d * slope[i + 1])
-    pos.append(np.array([s[-1]]))
-    out.append(np.array([w[-1]]))
-    return np.concatenate(pos), np.concatenate(out)
+    d = np.diff(s)[:, None]
+    pos = s[:-1, None] + t * d
+    out = (h00 * w[:-1, None] + h10 * d * slope[:-1, None] + h01 * w[1:, None]
+           + h11 * d * slope[1:, None])
+    return np.append(pos.ravel(), s[-1]), np.append(out.ravel(), w[-1])
