@@ -120,6 +120,38 @@ def test_depth_labels_name_only_the_depth_s_dofs():
     assert "front wheels hop, in phase" in half and not any("engine" in lab for lab in half)
 
 
+def test_a_depth_names_what_its_dofs_carry_of_the_condensed_bodies(van):
+    # A depth keeping one body segment and the powertrain: the segment's DOFs carry
+    # the condensed segments (Guyan), so the body keeps the weight it has in the
+    # full model and the modes read as there.
+    from builder.reduce import reduce_keep
+    _, model, full = van
+    small = compute_modes(reduce_keep(model, ["body_s06.*", "engine.*"]))
+    assert _labels(small)[:3] == _labels(full)[:3]
+
+
+MUTATIONS = {
+    "two segments": ("segments: 12", "segments: 2"),
+    "a floppy body": ("GJ: 6.0e6 N m^2", "GJ: 6.0e3 N m^2"),
+    "one-mass occupant": ("occupant: boileau_rakheja_1998", "occupant: fairley_griffin_1989"),
+    "split named frame": ("    name: body\n    with:\n      body: body\n      segments",
+                          "    name: frame\n    with:\n      body: body\n      segments"),
+}
+
+
+@pytest.mark.parametrize("change", MUTATIONS.values(), ids=list(MUTATIONS))
+def test_mutated_vans_still_label_uniquely_in_words(change):
+    from builder.analysis.labels import label_modes
+    from builder.eigen import lowest_modes
+    asm = load_text(VAN.read_text().replace(*change), "van.yaml")
+    model = assemble(asm)
+    lam, shapes = lowest_modes(model.K, model.M, min(model.n, 60))
+    labels = list(label_modes(model, shapes, lam < 1e-9 * lam.max()))
+    _assert_unique(labels, change[1])
+    _assert_orders_in_sequence(labels, change[1])
+    assert not any(re.search(r"driver_|_s\d\d|\bengine\b", lab) for lab in labels)
+
+
 def test_modes_ladder_and_the_split_body_command_label_alike(van):
     # Issue 11: `modes` and `plugin split_body` named the same mode differently.
     from plugins.split_body.analysis import flexible_body_modes

@@ -20,8 +20,11 @@ generalised coordinate such as a Craig-Bampton mode, the DOFs it moves. A
 body whose DOFs are all condensed away follows the kept ones statically
 and is not named (its mass still counts in the frequencies), and a kept
 body's condensed directions are not named either. The kinetic energy of
-each kept DOF, e_j = phi_j (M phi)_j (negative shares from products of
-inertia clipped to zero), gives each unit its share of the mode.
+each DOF of the model, e_j = phi_j (M phi)_j with the model's (reduced)
+mass matrix, so that what a kept DOF carries of the condensed bodies
+counts, is shared over the full-model DOFs it stands for in proportion to
+their own, and gives each unit its share of the mode (negative shares from
+products of inertia are clipped to zero).
 
 Words. The units are ranked by their share; the lead is always named, the
 next ones while the named ones hold less than 80 % together and each holds
@@ -281,6 +284,19 @@ def _plugin_uses(assembly: Any) -> list[Any]:
     return list(getattr(assembly, "plugins", ()) or ())
 
 
+def _plugin_of(use: Any) -> Any:
+    """The plugin object of a use: its own, or the installed one of that name."""
+    plugin = getattr(use, "plugin", None)
+    if plugin is None and getattr(use, "use", None):
+        from ..errors import InputError
+        from ..plugin import get_plugin
+        try:
+            plugin = get_plugin(use.use)
+        except InputError:
+            return None
+    return plugin
+
+
 def label_units(assembly: Any) -> tuple[LabelUnit, ...]:
     """Every body's label unit: the plugins' units (in plugin order; a body
     claimed twice stays with the first), then one :class:`RigidUnit` per body
@@ -289,7 +305,7 @@ def label_units(assembly: Any) -> tuple[LabelUnit, ...]:
     claimed: set[str] = set()
     bodies = getattr(assembly, "bodies", {}) or {}
     for use in _plugin_uses(assembly):
-        hook = getattr(getattr(use, "plugin", None), "label_units", None)
+        hook = getattr(_plugin_of(use), "label_units", None)
         if not callable(hook):
             continue
         for unit in hook(assembly, use.spec) or ():
@@ -335,12 +351,15 @@ class LabelContext:
 
     ``full`` is the unreduced model, ``expansion`` maps the model's shapes to
     it (None when the model is the full one), ``observed`` marks the full
-    DOFs the model keeps.
+    DOFs the model keeps, ``groups`` which of them each of the model's DOFs
+    stands for and ``mass`` is the model's mass matrix.
     """
 
     full: LinearModel
     expansion: Any
     observed: np.ndarray
+    groups: sp.csr_array | None
+    mass: Any
     units: tuple[LabelUnit, ...]
     index: tuple[tuple[tuple[np.ndarray, tuple[str, ...]], ...], ...]
     rows: tuple[np.ndarray, ...]
@@ -354,7 +373,9 @@ class LabelContext:
         full = model.parent if model.parent is not None else model
         expansion = model.expansion if model.parent is not None else None
         asm = full.assembly
-        observed = _observed(model, full)
+        groups = _groups(model, full)
+        observed = np.ones(full.n, dtype=bool) if groups is None else \
+            np.asarray(groups.sum(axis=1)).ravel() > 0
         per_body: dict[str, tuple[list[int], list[str]]] = {}
         for j, d in enumerate(full.dofs):
             body, _, dof = d.rpartition(".")
@@ -378,12 +399,12 @@ class LabelContext:
             six_rows.append(at)
             cgs.append(_unit_cg(asm, u))
         cg_x = float(asm.mass_properties()[1][0]) if asm is not None and asm.bodies else 0.0
-        legacy = tuple(use.plugin.label_mode for use in _plugin_uses(asm)
-                       if getattr(use, "plugin", None) is not None
-                       and not callable(getattr(use.plugin, "label_units", None))
-                       and callable(getattr(use.plugin, "label_mode", None)))
-        return LabelContext(full, expansion, observed, units, tuple(index), tuple(rows),
-                            tuple(six_rows), tuple(cgs), cg_x, legacy)
+        plugins = [p for p in map(_plugin_of, _plugin_uses(asm)) if p is not None]
+        legacy = tuple(p.label_mode for p in plugins
+                       if not callable(getattr(p, "label_units", None))
+                       and callable(getattr(p, "label_mode", None)))
+        return LabelContext(full, expansion, observed, groups, model.M, units, tuple(index),
+                            tuple(rows), tuple(six_rows), tuple(cgs), cg_x, legacy)
 
 
 def _unit_cg(asm: Any, unit: LabelUnit) -> np.ndarray | None:
@@ -396,32 +417,63 @@ def _unit_cg(asm: Any, unit: LabelUnit) -> np.ndarray | None:
     return sum(b.mass * np.asarray(b.cg, float) for b in bodies) / mass
 
 
-def _observed(model: LinearModel, full: LinearModel) -> np.ndarray:
-    """Full-model DOFs the model keeps: its own, those tied to them, and those a
-    generalised coordinate (a DOF name the full model lacks) moves."""
+def _groups(model: LinearModel, full: LinearModel) -> sp.csr_array | None:
+    """Which full-model DOFs each DOF of the model stands for (full n x model n, 0/1):
+    a kept DOF its own and those tied to it, a generalised coordinate (a DOF name
+    the full model lacks, such as a Craig-Bampton mode) the DOFs it moves.
+    None for a full model (each DOF stands for itself)."""
     if model.parent is None:
-        return np.ones(full.n, dtype=bool)
+        return None
     where = {d: i for i, d in enumerate(full.dofs)}
     E = sp.csr_array(model.expansion)
     E.eliminate_zeros()
     Ec = E.tocsc()
-    observed = np.zeros(full.n, dtype=bool)
+    rows: list[int] = []
+    cols: list[int] = []
     kept_col = {}
     for k, d in enumerate(model.dofs):
         i = where.get(d)
         if i is None:
-            observed[Ec.indices[Ec.indptr[k]:Ec.indptr[k + 1]]] = True
+            moved = Ec.indices[Ec.indptr[k]:Ec.indptr[k + 1]]
+            rows.extend(int(r) for r in moved)
+            cols.extend([k] * len(moved))
         else:
-            observed[i] = True
-            kept_col[k] = d.rpartition(".")[2]
+            rows.append(i)
+            cols.append(k)
+            kept_col[k] = (i, d.rpartition(".")[2])
     # A tie copies its survivor: a row of E that is exactly the unit row of a
     # kept DOF of the same direction (a condensed DOF's row comes from a solve).
     indptr, indices, data = E.indptr, E.indices, E.data
     for i in np.flatnonzero(np.diff(indptr) == 1):
         k = int(indices[indptr[i]])
-        if data[indptr[i]] == 1.0 and kept_col.get(k) == full.dofs[i].rpartition(".")[2]:
-            observed[i] = True
-    return observed
+        kept = kept_col.get(k)
+        if data[indptr[i]] == 1.0 and kept and kept[0] != i \
+                and kept[1] == full.dofs[i].rpartition(".")[2]:
+            rows.append(int(i))
+            cols.append(k)
+    return sp.csr_array((np.ones(len(rows)), (rows, cols)), shape=(full.n, model.n))
+
+
+def _energies(ctx: LabelContext, shapes: np.ndarray, full_shapes: np.ndarray) -> np.ndarray:
+    """Kinetic energy per full-model DOF of each mode, on the DOFs the model keeps.
+
+    A full model: e_j = phi_j (M phi)_j. A reduced one: each of its DOFs'
+    energy (with the reduced mass matrix, so that what it carries of the
+    condensed bodies counts) shared over the full DOFs it stands for, in
+    proportion to their own energy (equally when they have none).
+    """
+    own = np.clip(full_shapes * np.asarray(ctx.full.M @ full_shapes), 0.0, None)
+    A = ctx.groups
+    if A is None:
+        return own
+    reduced = np.clip(shapes * np.asarray(ctx.mass @ shapes), 0.0, None)
+    own = own * ctx.observed[:, None]
+    held = np.asarray(A.T @ own)
+    count = np.asarray(A.T @ np.ones(A.shape[0]))[:, None]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        scale = np.where(held > 0, reduced / held, 0.0)
+        equal = np.where(held > 0, 0.0, reduced / np.where(count > 0, count, 1.0))
+    return own * np.asarray(A @ scale) + np.asarray(A @ equal)
 
 
 # -------------------------------------------------------------- labels ----
@@ -441,7 +493,7 @@ def describe_modes(model: LinearModel, shapes: np.ndarray,
     rigid = [False] * count if rigid is None else [bool(r) for r in rigid]
     ctx = context or LabelContext.of(model)
     full_shapes = shapes if ctx.expansion is None else np.asarray(ctx.expansion @ shapes)
-    energy = full_shapes * np.asarray(ctx.full.M @ full_shapes)
+    energy = _energies(ctx, shapes, full_shapes)
     families: dict[tuple[int, str], list[tuple[int, Motion]]] = {}
     seen: dict[str, int] = {}
     out = []
@@ -478,7 +530,7 @@ def label_mode(model: LinearModel, shape: np.ndarray) -> str:
 
 
 def _parts(ctx: LabelContext, phi: np.ndarray, energy: np.ndarray) -> list[Part]:
-    e = np.where(ctx.observed, np.clip(energy, 0.0, None), 0.0)
+    e = np.where(ctx.observed, energy, 0.0)
     total = float(e.sum())
     if total <= 0:
         return []
@@ -590,10 +642,10 @@ def _compose(parts: Sequence[Part], orders: dict[int, str], ctx: LabelContext,
     words = [_words(p, orders.get(k), level) for k, p in enumerate(chosen)]
     lead = chosen[0]
     if len(chosen) >= 2 and words[0] == words[1] and _mirrored(chosen[0], chosen[1]):
-        phase = "in phase" if chosen[0].motion.sign == chosen[1].motion.sign else "opposed"
+        together = "in phase" if chosen[0].motion.sign == chosen[1].motion.sign else "opposed"
         where = "front" if chosen[0].cg[0] > ctx.cg_x else "rear"
         text = f"{where} {_pair_noun(chosen[0].unit.name, chosen[1].unit.name)} {words[0]}, " \
-               f"{phase}"
+               f"{together}"
         rest = range(2, len(chosen))
     else:
         text = f"{lead.unit.name} {words[0]}"

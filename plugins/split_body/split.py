@@ -323,14 +323,13 @@ def uniform_bar(segments: int, length: float, mass_per_length: float,
     """
     from builder.plugin import PluginUse
 
-    from .plugin import PLUGIN
-
     m = mass_per_length * length
     ip = polar_inertia_per_length * length
     inertia = np.diag([ip, m * length ** 2 / 12 + ip / 2, m * length ** 2 / 12 + ip / 2])
     bar = Body(name, m, np.array([length / 2, 0.0, 0.0]), inertia, DOF_NAMES)
     asm = Assembly(name, "spatial", {name: bar})
     spec = SplitSpec(name, segments=segments, start=0.0, end=length, section=dict(section))
-    # Recorded as a plugin use, as a file's would be, so that labels name the bar.
-    return split_body(asm, spec).replace(plugins=(PluginUse("split_body", name, spec, Where(),
-                                                            PLUGIN),))
+    # Recorded as a use of the installed plugin, as a file's would be, so that
+    # labels name the bar.
+    return split_body(asm, spec).replace(plugins=(PluginUse("split_body", name, spec,
+                                                            Where()),))
