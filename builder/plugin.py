@@ -19,7 +19,11 @@ and optionally
   and ``to_dict()``, for ``lumpgraph plugin NAME FILE``;
 - ``tables(assembly, model, **options) -> list[(title, rows)]`` for the report;
 - ``configure_cli(parser)``: extra options of ``lumpgraph plugin NAME``;
-- ``label_mode(model, shape, energy) -> str | None``: mode labels in its words;
+- ``label_units(assembly, spec) -> list of LabelUnit``: the bodies it added,
+  grouped and named in words, each describing its own motion in a mode
+  (see :mod:`builder.analysis.labels`); an older plugin's
+  ``label_mode(model, shape, energy) -> str | None`` is still asked for a
+  mode's whole label when it has no ``label_units``.
 - ``check_summary(model, eigenvalues, shapes) -> list[dict]``: figures for
   ``lumpgraph check``, each a dict with a one-line ``"text"`` and its values
   (SI, JSON-ready); it gets the lowest modes the check computed (at least

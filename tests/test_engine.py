@@ -382,7 +382,9 @@ def test_body_side_roll_torque_response_matches_python_control():
 
 
 def test_mode_labels_use_crank_aligned_words():
-    # Words only (no outside value): the powertrain's modes are named in its own axes.
+    # Words only (no outside value): the powertrain's modes are named in its own axes,
+    # and as "powertrain", not by the body name "pt" the plugin made.
     labels = [m.label for m in compute_modes(assemble(load_text(engine_yaml()))).modes]
-    assert any(lab.startswith("pt roll about the crank") for lab in labels)
-    assert any(lab.startswith("pt bounce") for lab in labels)
+    assert any(lab.startswith("powertrain roll about the crank") for lab in labels)
+    assert any(lab.startswith("powertrain bounce") for lab in labels)
+    assert not any(lab.startswith("pt ") for lab in labels)

@@ -75,7 +75,7 @@ def test_vanishing_plugin_mass_and_far_point_are_refused(write_yaml, run_cli):
     seat = (ASSEMBLIES / "compact_car_seat.yaml").read_text()
     code, _, err = run_cli("modes", _write(write_yaml, "occupant_mass: 75 kg",
                                            'occupant_mass: "1e-320"', seat))
-    assert code == 2 and "driver_" in _one_clean_line(err)
+    assert code == 2 and "occupant_mass" in _one_clean_line(err)   # refused by the loader
     mounts = (ASSEMBLIES / "engine_on_mounts.yaml").read_text()
     code, _, err = run_cli("modes", _write(write_yaml, "at: [0.02, -0.40, 0.10]",
                                            "at: [0.02, -0.40, -1e308]", mounts))
@@ -108,12 +108,13 @@ def test_slow_mode_next_to_a_very_stiff_link_is_not_called_rigid():
 
 
 def test_hopeless_model_refused_by_assemble_itself():
-    text = SLOW.replace("%K%", "100").replace("stiffness: 1e12", "stiffness: 1e20")
+    text = SLOW.replace("%K%", "100").replace("stiffness: 1e12", "stiffness: 1e15")
     with pytest.raises(InputError, match="links.stiff.*beyond any vehicle"):
         assemble(load_text(text, "slow.yaml"))
 
 
-def test_finely_divided_free_beam_keeps_its_elastic_modes():
+@pytest.mark.parametrize("segments", [60, 2000, 10000])
+def test_finely_divided_free_beam_keeps_its_elastic_modes(segments):
     # Analytic: a free-free Euler-Bernoulli beam has six zero-frequency modes and
     # its first bending mode at (4.7300^2 / (2 pi)) sqrt(EI / (rho A L^4)) (beta L
     # from cos(bL) cosh(bL) = 1; from memory, checked by root finding in
@@ -122,7 +123,7 @@ def test_finely_divided_free_beam_keeps_its_elastic_modes():
     # relative to it called the first bending modes rigid.
     from plugins.split_body.split import uniform_bar
     section = dict(EA=2.0e9, EIy=3.0e6, EIz=4.5e6, GJ=1.2e6)
-    modes = compute_modes(assemble(uniform_bar(2000, 4.0, 60.0, 2.0, section)), 8)
+    modes = compute_modes(assemble(uniform_bar(segments, 4.0, 60.0, 2.0, section)), 8)
     assert modes.rigid_count == 6
     f1 = 4.7300 ** 2 / (2 * math.pi) * math.sqrt(3.0e6 / (60.0 * 4.0 ** 4))
     assert modes[6].frequency_hz == pytest.approx(f1, rel=0.03)

@@ -278,18 +278,18 @@ def test_sensors_and_links_stay_consistent_after_assembly():
 
 
 def test_labels_name_bending_and_torsion_in_the_analytic_order():
-    # The free-free bar's elastic modes, labelled by the chain labeller, come in
-    # the order of the analytic frequencies (Euler-Bernoulli bending in the two
-    # planes, beta L = 4.7300, 7.8532, 10.9956, 14.1372 (from memory, the roots of
-    # cos(bL) cosh(bL) = 1); free-free shaft torsion
-    # n pi/L sqrt(GJ/rho Ip)).
-    from plugins.split_body.labels import flexible_body_label
+    # The free-free bar's elastic modes, labelled as `lumpgraph modes` labels them,
+    # come in the order of the analytic frequencies (Euler-Bernoulli bending in the
+    # two planes, beta L = 4.7300, 7.8532, 10.9956, 14.1372 (from memory, the roots
+    # of cos(bL) cosh(bL) = 1); free-free shaft torsion n pi/L sqrt(GJ/rho Ip)).
+    from builder.analysis.labels import describe_modes
+    from builder.analysis.modes import compute_modes
     from plugins.split_body.split import uniform_bar
     L, rho_a, rho_ip = 3.0, 20.0, 3e-4
     EIy, EIz, GJ = 4.0e4, 6.0e4, 30.0
     asm = uniform_bar(60, L, rho_a, rho_ip, {"EA": 1e9, "EIy": EIy, "EIz": EIz, "GJ": GJ})
     model = assemble(asm)
-    lam, x = lowest_modes(model.K, model.M, 18)
+    modes = compute_modes(model, 18)
     expected = []
     for order, bl in ((1, 4.7300), (2, 7.8532), (3, 10.9956), (4, 14.1372)):
         word = ("first", "second", "third", "fourth")[order - 1]
@@ -297,21 +297,26 @@ def test_labels_name_bending_and_torsion_in_the_analytic_order():
         expected.append((bl ** 2 * np.sqrt(EIz / (rho_a * L ** 4)), f"bar {word} lateral bending"))
         expected.append((order * np.pi / L * np.sqrt(GJ / rho_ip), f"bar {word} torsion"))
     expected = [label for _, label in sorted(expected)][:10]
-    energy = x * (model.M @ x)
-    labels = [flexible_body_label(model, x[:, i], energy[:, i]) for i in range(6, 16)]
-    assert labels == expected
-    # The six rigid-body modes are named as motions of the bar as a whole.
-    rigid = {flexible_body_label(model, x[:, i], energy[:, i]) for i in range(6)}
-    assert rigid <= {f"bar {w}" for w in ("fore-aft", "lateral", "bounce", "roll", "pitch", "yaw")}
+    assert [m.label for m in modes.modes[6:16]] == expected
+    # The six zero-frequency modes are "rigid" (the format's word); described on
+    # their own, they are motions of the bar as a whole, with no family.
+    assert [m.label for m in modes.modes[:6]] == ["rigid"] * 6
+    for d in describe_modes(model, modes.shapes[:, :6]):
+        assert d.parts[0].unit.name == "bar" and not d.parts[0].motion.family
 
 
 def flexible_car(segments):
+    from builder.errors import Where
+    from builder.plugin import PluginUse
+    from plugins.split_body.plugin import PLUGIN
     asm = car()
     asm = asm.replace(bodies={n: replace(b, dofs=DOF_NAMES) if n == "engine" else b
                               for n, b in asm.bodies.items()})
-    return split_body(asm, SplitSpec("body", segments=segments, start=-3.0, end=0.8,
-                                     section={"EA": 2e9, "EIy": 8e6, "EIz": 1.2e7,
-                                              "GJ": 4.3e6}))
+    spec = SplitSpec("body", segments=segments, start=-3.0, end=0.8,
+                     section={"EA": 2e9, "EIy": 8e6, "EIz": 1.2e7, "GJ": 4.3e6})
+    # recorded as the plugin use a file would make, so that labels know the split body
+    return split_body(asm, spec).replace(plugins=(PluginUse("split_body", "body", spec,
+                                                            Where(), PLUGIN),))
 
 
 def test_craig_bampton_of_the_split_body_in_the_car():
@@ -326,13 +331,13 @@ def test_craig_bampton_of_the_split_body_in_the_car():
     moving = full > 1e-6 * full.max()
     np.testing.assert_allclose(np.sqrt(small[moving]), np.sqrt(full[moving]), rtol=1e-3)
     assert np.all(small[moving] >= full[moving] * (1 - 1e-9))      # Rayleigh-Ritz bound
-    # The reduced model expands to the full one: the expanded first elastic body
-    # mode labels as in the full model.
-    from plugins.split_body.labels import flexible_body_label
-    x = np.asarray(reduced.expansion @ shapes)
-    e = x * (model.M @ x)
-    labels = [flexible_body_label(model, x[:, i], e[:, i]) for i in range(22)]
+    # The reduced model's modal coordinates stand for the body's segments: its
+    # first elastic body modes label as in the full model.
+    from builder.analysis.modes import compute_modes
+    labels = [m.label for m in compute_modes(reduced, 22).modes]
+    full_labels = [m.label for m in compute_modes(model, 22).modes]
     assert "body first torsion" in labels and "body first vertical bending" in labels
+    assert labels == full_labels
 
 
 WITH_BLOCK = """

@@ -15,10 +15,11 @@ from typing import Any
 import numpy as np
 
 from ..assembly import Assembly, Depth
-from ..errors import Where
+from ..errors import InputError, Where
 from ..formatting import count, percent
 from ..linear import LinearModel
 from ..reduce import reduce_to_depth
+from .labels import vehicle_body
 from .modes import ModeSet, compute_modes, mac_matrix
 
 __all__ = ["Rung", "Ladder", "compute_ladder", "proposed_depths"]
@@ -49,12 +50,13 @@ class Ladder:
     full: ModeSet
     rungs: tuple[Rung, ...]
     proposed: bool
+    notes: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         return {"model": self.full.model.name, "proposed": self.proposed,
                 "full": {"dof_count": self.full.model.n,
                          "frequencies_hz": self.full.frequencies_hz.tolist()},
-                "depths": [r.to_dict() for r in self.rungs]}
+                "depths": [r.to_dict() for r in self.rungs], "notes": list(self.notes)}
 
     def table(self) -> str:
         lines = [f"full model: {count(self.full.model.n, 'DOF')}"
@@ -69,18 +71,31 @@ class Ladder:
                 ff = self.full.modes[k - 1].frequency_hz if k else float("nan")
                 lines.append(f"  {m.number:>4} {m.frequency_hz:8.3f} {k:>5} {ff:8.3f} "
                              f"{c:6.3f} {percent(e, 2, signed=True):>9}  {m.label}")
+        lines.extend(f"note: {n}" for n in self.notes)
         return "\n".join(lines)
 
 
 def proposed_depths(assembly: Assembly) -> dict[str, Depth]:
-    """A ladder for a file without ``depths:``: main body bounce, bounce and pitch,
-    main body with everything on the road, then everything."""
-    if not assembly.bodies:
+    """A ladder for a file without ``depths:``: the vehicle body's bounce, its
+    bounce and pitch, the body with everything on the road, then (a split
+    body) all its segments with everything on the road.
+
+    The vehicle body is :func:`~builder.analysis.labels.vehicle_body`: the
+    heaviest body that no plugin added as a sub-system (a powertrain or a seat
+    never counts), the segments of a split body counting together. A split
+    body's rigid depths keep the segment nearest the body's cg.
+    """
+    unit = vehicle_body(assembly)
+    if unit is None:
         return {}
-    main = max(assembly.bodies.values(), key=lambda b: b.mass)
+    members = [assembly.bodies[b] for b in unit.bodies]
+    cg = sum(b.mass * b.cg for b in members) / sum(b.mass for b in members)
+    main = min(members, key=lambda b: float(np.linalg.norm(b.cg - cg)))
     road_bodies = [lk.a.node if lk.b.kind == "road" else lk.b.node
                    for lk in assembly.links.values()
                    if (lk.a.kind == "road") != (lk.b.kind == "road")]
+    wheels = [f"{b}.{d}" for b in dict.fromkeys(road_bodies) if b in assembly.bodies
+              and b not in unit.bodies for d in assembly.bodies[b].dofs]
     labels = assembly.dof_labels
     out: dict[str, Depth] = {}
 
@@ -92,22 +107,35 @@ def proposed_depths(assembly: Assembly) -> dict[str, Depth]:
 
     add("main_bounce", [f"{main.name}.z"])
     add("main_bounce_pitch", [f"{main.name}.z", f"{main.name}.ry"])
-    add("main_and_wheels", [f"{main.name}.{d}" for d in main.dofs]
-        + [f"{b}.{d}" for b in dict.fromkeys(road_bodies) if b in assembly.bodies
-           for d in assembly.bodies[b].dofs])
+    add("main_and_wheels", [f"{main.name}.{d}" for d in main.dofs] + wheels)
+    if len(members) > 1:
+        add("main_flexible_and_wheels",
+            [f"{b.name}.{d}" for b in members for d in b.dofs] + wheels)
     return out
 
 
 def compute_ladder(model: LinearModel, depths: dict[str, Depth] | None = None) -> Ladder:
-    """Modes of every depth (the file's, or proposed ones) matched to the full model."""
+    """Modes of every depth (the file's, or proposed ones) matched to the full model.
+
+    A proposed depth that cannot be condensed (the DOFs it leaves out can move
+    with it held: a mechanism) is left out, with a note; a file's depth is an
+    error then.
+    """
     asm = model.assembly
     proposed = not (depths or asm.depths)
     depths = depths or asm.depths or proposed_depths(asm)
     full = compute_modes(model)
     full_shapes = full.shapes
     rungs = []
+    notes = []
     for depth in depths.values():
-        reduced = reduce_to_depth(model, depth)
+        try:
+            reduced = reduce_to_depth(model, depth)
+        except InputError as err:
+            if not proposed:
+                raise
+            notes.append(f"proposed depth {depth.name} left out: {err.reason}")
+            continue
         ms = compute_modes(reduced)
         expanded = np.asarray(reduced.expansion @ ms.shapes) if reduced.parent is not None \
             else ms.shapes
@@ -120,4 +148,4 @@ def compute_ladder(model: LinearModel, depths: dict[str, Depth] | None = None) -
             ff = full.modes[k].frequency_hz if k >= 0 else float("nan")
             err.append((m.frequency_hz - ff) / ff if ff > 0 else 0.0)
         rungs.append(Rung(depth.name, reduced.dofs, ms, tuple(match), tuple(mv), tuple(err)))
-    return Ladder(full, tuple(rungs), proposed)
+    return Ladder(full, tuple(rungs), proposed, tuple(notes))

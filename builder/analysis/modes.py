@@ -32,7 +32,7 @@ from ..errors import InputError, Where
 from ..linear import LinearModel
 from ..threads import blas_threads_for
 from .damped import DampedModes, damped_modes
-from .labels import LabelContext, label_mode, plugin_label
+from .labels import label_mode, label_modes
 
 __all__ = ["Mode", "ModeSet", "compute_modes", "mac", "mac_matrix", "label_mode",
            "zero_frequency", "check_matrices", "DEFAULT_COUNT", "RIGID_TOLERANCE"]
@@ -173,21 +173,12 @@ def compute_modes(model: LinearModel, count: int | None = None) -> ModeSet:
     omega[rigid] = 0.0
     energies = shapes * np.asarray(model.M @ shapes)
     damping = damped.modes[:count]
-    # Labels read the motion of every body: a reduced model's shapes are
-    # expanded to the full model first, so condensed and tied DOFs count.
-    if model.parent is not None:
-        full, full_shapes = model.parent, np.asarray(model.expansion @ shapes)
-        full_energy = full_shapes * np.asarray(full.M @ full_shapes)
-    else:
-        full, full_shapes, full_energy = model, shapes, energies
-    context = LabelContext.of(full)
+    labels = label_modes(model, shapes, rigid)
     modes = []
     for i in range(count):
         energy = {d: float(e) for d, e in zip(model.dofs, energies[:, i])}
         zeta, fd, over, roots = damping[i]
-        label = "rigid" if rigid[i] else (
-            plugin_label(full, full_shapes[:, i], full_energy[:, i])
-            or label_mode(full, full_shapes[:, i], full_energy[:, i], context))
+        label = labels[i]
         modes.append(Mode(i + 1, float(omega[i] / (2 * math.pi)), zeta, fd, label,
                           shapes[:, i].copy(), energy, bool(rigid[i]), over, roots))
     root = model
@@ -263,7 +254,8 @@ def _damping_notes(modes: list[Mode], damped: DampedModes, count: int, n: int) -
              and m.damped_frequency_hz > m.frequency_hz * (1 + 1e-9)]
     if above:
         listed = ", ".join(str(k) for k in above[:8]) + (", ..." if len(above) > 8 else "")
-        notes.append(f"fd above f (modes {listed}): the damping is not proportional, so it "
+        which = "mode" if len(above) == 1 else "modes"
+        notes.append(f"fd above f ({which} {listed}): the damping is not proportional, so it "
                      "couples the undamped modes, and the coupling can raise a damped frequency "
                      "above the undamped one")
     error = damped.error(count)

@@ -23,6 +23,7 @@ import os
 import shutil
 import subprocess
 import tempfile
+import textwrap
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -38,6 +39,7 @@ __all__ = [
     "VIEWS", "DEFAULT_SCALE", "ModeField", "ModeRenderer", "mode_field", "mode_title",
     "choose_view", "phase_normalised", "render_mode", "save_mode_image", "save_mode_animation",
     "encode_png", "write_bytes", "mp4_available", "DrawnMode", "expanded_modes",
+    "title_font", "caption_columns", "wrap_caption", "CHAR_WIDTH", "CAPTION_LINES",
 ]
 
 VIEWS = ("side", "front", "top", "iso")
@@ -146,10 +148,43 @@ def _get(mode: Any, name: str, default: Any = None) -> Any:
     return getattr(mode, name, default)
 
 
-def mode_title(mode: Any) -> str:
-    """Two lines: ``Mode 3   1.23 Hz   damping 21.0 %`` and the label (plain ASCII).
+#: Caption rule: the mean width of a caption character over the font size. VTK's
+#: sans-serif font measures 0.99 to 1.03 on lower-case labels (measured with
+#: vtkTextActor.GetBoundingBox at sizes 7 and 15); 1.1 leaves room for wider
+#: letters, so a wrapped line never runs off the picture.
+CHAR_WIDTH = 1.1
+#: Label lines a caption is given before its font shrinks (review sheet).
+CAPTION_LINES = 2
+_MARGIN = 0.015      # the caption's left margin, as a fraction of the picture width
 
-    (A ``|`` or ``$`` would send the text through VTK's math-text renderer.)
+
+def title_font(size: Sequence[int]) -> int:
+    """Caption font size (VTK points, about pixels) for a picture of ``size`` (w, h)."""
+    return max(7, int(round(size[1] / 52)))
+
+
+def caption_columns(width: int, font: int) -> int:
+    """Characters that fit on one caption line of a picture ``width`` pixels wide."""
+    return max(12, int(width * (1.0 - 2.0 * _MARGIN) / (CHAR_WIDTH * font)))
+
+
+def wrap_caption(text: str, columns: int | None) -> list[str]:
+    """Caption lines of at most ``columns`` characters, broken between words (a word
+    longer than a line is split). Nothing is cut: a long label takes more lines."""
+    if not text:
+        return []
+    if columns is None:
+        return [text]
+    return textwrap.wrap(text, columns, break_on_hyphens=False) or [text]
+
+
+def mode_title(mode: Any, columns: int | None = None) -> str:
+    """``Mode 3   1.23 Hz   damping 21.0 %`` and the label below (plain ASCII).
+
+    With ``columns`` (see :func:`caption_columns`) both are wrapped to lines of
+    at most that many characters, so that nothing is cut off at the picture's
+    edge. (A ``|`` or ``$`` would send the text through VTK's math-text
+    renderer.)
     """
     parts = [f"Mode {_get(mode, 'number', '?')}"]
     freq = _get(mode, "frequency_hz")
@@ -160,7 +195,10 @@ def mode_title(mode: Any) -> str:
     if zeta is not None and np.isfinite(float(zeta)):
         parts.append(f"damping {100 * float(zeta):.1f} %")
     label = str(_get(mode, "label") or "").replace("|", "/").replace("$", "")
-    return "   ".join(parts) + (f"\n{label}" if label else "")
+    head = "   ".join(parts)
+    if columns is not None and len(head) > columns:
+        head = "  ".join(parts)
+    return "\n".join(wrap_caption(head, columns) + wrap_caption(label, columns))
 
 
 def choose_view(scene: Scene, dofs: Sequence[str], mode: Any) -> str:
@@ -247,7 +285,7 @@ class ModeRenderer:
     def __init__(self, scene: Scene, size: tuple[int, int] = (1024, 768), *,
                  scale: float = DEFAULT_SCALE, scalar_bar: bool = True, ghost: bool = True,
                  font_size: int | None = None, anti_aliasing: bool = True,
-                 plain: bool = False):
+                 plain: bool = False, title_lines: int = 2):
         if not scale >= 0 or not math.isfinite(scale):
             raise InputError(f"--scale: expected a fraction >= 0, got {scale!r}")
         pv = import_pyvista()
@@ -258,8 +296,9 @@ class ModeRenderer:
         if not anti_aliasing:    # multisampling triples the CPU render time of a frame
             self.plotter.disable_anti_aliasing()
         self.plotter.set_background(PALETTE["background_bottom"], top=PALETTE["background_top"])
-        font = font_size or max(7, int(round(self.size[1] / 52)))
+        font = font_size or title_font(self.size)
         self._font = font
+        self._title_lines = max(2, int(title_lines))
         lut = _colour_table(pv)
         bar = {"title": "amplitude", "n_labels": 3, "fmt": "%.1f",
                "vertical": True, "position_x": 0.9, "position_y": 0.18, "width": 0.035,
@@ -331,7 +370,7 @@ class ModeRenderer:
         margin = self.scale * self.scene.size
         parallel = 1.06 * max(half_h + margin, (half_w + margin) / aspect / 0.9)
         # Leave the top band to the title: widen and move the scene down.
-        band = min(0.3, 2.8 * self._font / self.size[1])
+        band = min(0.3, 1.4 * self._title_lines * self._font / self.size[1])
         parallel /= 1.0 - band
         center = center + up * parallel * band
         position = center + direction * 4.0 * self.scene.size
@@ -419,13 +458,14 @@ class ModeRenderer:
         self.close()
 
 
-def _mode_inputs(scene: Scene, dofs: Sequence[str], mode: Any,
-                 view: str | None) -> tuple[ModeField, str, str]:
+def _mode_inputs(scene: Scene, dofs: Sequence[str], mode: Any, view: str | None,
+                 size: Sequence[int]) -> tuple[ModeField, str, str]:
     shape = _get(mode, "shape")
     if shape is None:
         raise InputError("mode has no shape to draw")
     field = mode_field(scene, dofs, shape)
-    return field, mode_title(mode), view or choose_view(scene, dofs, mode)
+    title = mode_title(mode, caption_columns(int(size[0]), title_font(size)))
+    return field, title, view or choose_view(scene, dofs, mode)
 
 
 def render_mode(scene: Scene, dofs: Sequence[str], mode: Any, *, view: str | None = None,
@@ -433,8 +473,8 @@ def render_mode(scene: Scene, dofs: Sequence[str], mode: Any, *, view: str | Non
                 phase: float = 0.0) -> NDArray:
     """One frame of ``mode`` (an object with ``number, frequency_hz, damping_ratio, label,
     shape`` over ``dofs``): image array (h x w x 3 uint8)."""
-    field, title, view = _mode_inputs(scene, dofs, mode, view)
-    with ModeRenderer(scene, size, scale=scale) as renderer:
+    field, title, view = _mode_inputs(scene, dofs, mode, view, size)
+    with ModeRenderer(scene, size, scale=scale, title_lines=title.count("\n") + 1) as renderer:
         return renderer.draw(field, title, view, phase)
 
 
@@ -476,9 +516,10 @@ def save_mode_animation(scene: Scene, dofs: Sequence[str], mode: Any,
         raise InputError("--out: MP4 needs an ffmpeg program on the PATH; write a .gif instead")
     if frames < 2:
         raise InputError(f"--frames: need at least 2 frames, got {frames}")
-    field, title, view = _mode_inputs(scene, dofs, mode, view)
+    field, title, view = _mode_inputs(scene, dofs, mode, view, size)
     images = []
-    with ModeRenderer(scene, size, scale=scale, anti_aliasing=False) as renderer:
+    with ModeRenderer(scene, size, scale=scale, anti_aliasing=False,
+                      title_lines=title.count("\n") + 1) as renderer:
         renderer.set_mode(field, title)
         renderer.set_view(view)
         for k in range(frames):

@@ -4,6 +4,12 @@ Every panel comes from one plotter and the same fixed camera per view (see
 :class:`~builder.render.modeshape.ModeRenderer`), so the panels compare
 directly. Each panel's view is chosen from the mode's motion (side for
 pitch, front for roll, iso otherwise) unless one view is given for all.
+
+Captions are never cut off: each label is wrapped between words to the
+panel's width (:func:`~builder.render.modeshape.caption_columns`); when a
+label needs more than two lines at the panel's font, the font of the whole
+sheet shrinks (down to 6) until every label fits in two, and a label that
+still does not fit takes a third line (the scene moves down to make room).
 """
 
 from __future__ import annotations
@@ -19,20 +25,24 @@ from numpy.typing import NDArray
 
 from ..errors import InputError
 from .modeshape import (
+    CAPTION_LINES,
     DEFAULT_SCALE,
     ModeRenderer,
     _get,
+    caption_columns,
     choose_view,
     encode_png,
     mode_field,
     mode_title,
+    title_font,
     write_bytes,
 )
 from .scene import PALETTE, Scene
 
-__all__ = ["sheet_layout", "render_sheet", "save_sheet", "mode_list"]
+__all__ = ["sheet_layout", "render_sheet", "save_sheet", "mode_list", "sheet_captions"]
 
 GAP = 4  # pixels between panels
+_SMALLEST_FONT = 6
 
 
 def mode_list(modes: Any) -> list[Any]:
@@ -69,6 +79,18 @@ def _selected(modes: Any, count: int, skip_rigid: bool) -> list[Any]:
     return chosen[:count]
 
 
+def sheet_captions(modes: Sequence[Any], panel: tuple[int, int]) -> tuple[int, list[str]]:
+    """(font size, caption of every mode) for panels of ``panel`` (w, h) pixels: the
+    panel's font, or a smaller one down to 6 so that every label fits in two
+    lines; wrapped to the panel's width (see the module notes)."""
+    font = title_font(panel)
+    while True:
+        titles = [mode_title(m, caption_columns(panel[0], font)) for m in modes]
+        if font <= _SMALLEST_FONT or all(t.count("\n") <= CAPTION_LINES for t in titles):
+            return font, titles
+        font -= 1
+
+
 def render_sheet(scene: Scene, dofs: Sequence[str], modes: Any, count: int = 12, *,
                  size: tuple[int, int] | None = None, view: str | None = None,
                  scale: float = DEFAULT_SCALE, skip_rigid: bool = True) -> NDArray:
@@ -92,11 +114,14 @@ def render_sheet(scene: Scene, dofs: Sequence[str], modes: Any, count: int = 12,
     pv = import_pyvista()
     sheet = np.empty((height, width, 3), dtype=np.uint8)
     sheet[:] = np.array(pv.Color(PALETTE["ground_edges"]).int_rgb, dtype=np.uint8)
-    with ModeRenderer(scene, (pw, ph), scale=scale) as renderer:
+    font, titles = sheet_captions(chosen, (pw, ph))
+    lines = max(t.count("\n") + 1 for t in titles)
+    with ModeRenderer(scene, (pw, ph), scale=scale, font_size=font,
+                      title_lines=lines) as renderer:
         for k, mode in enumerate(chosen):
             field = mode_field(scene, dofs, _get(mode, "shape"))
             panel_view = view or choose_view(scene, dofs, mode)
-            image = renderer.draw(field, mode_title(mode), panel_view)
+            image = renderer.draw(field, titles[k], panel_view)
             r, c = divmod(k, cols)
             y, x = r * (ph + GAP), c * (pw + GAP)
             sheet[y:y + ph, x:x + pw] = image

@@ -46,6 +46,7 @@ from typing import Any
 
 import numpy as np
 
+from builder.analysis.labels import LabelUnit, Motion, UnitMotion, rigid_motion
 from builder.assembly import Body, End, Link, Sensor
 from builder.errors import InputError, Where
 from builder.kinematics import DOF_NAMES
@@ -500,10 +501,10 @@ class EnginePlugin:
                             help="target bounce frequency for mount-rate scaling")
         parser.add_argument("--plot", metavar="FILE", help="write the order plot")
 
-    def label_mode(self, model: Any, shape: np.ndarray, energy: np.ndarray) -> str | None:
-        """Words for a mode mostly in a powertrain, in its crank-aligned axes
-        (roll = about the crankshaft), e.g. ``"engine roll about the crank with bounce"``."""
-        return _label(model, shape, energy)
+    def label_units(self, assembly: Any, spec: EngineSpec) -> list[Any]:
+        """The powertrain as one label unit, in its crank-aligned words (roll = about
+        the crankshaft), e.g. ``"powertrain roll about the crank with bounce"``."""
+        return [_PowertrainUnit(spec, len(engine_specs(assembly)) > 1)]
 
     def analyse(self, model: Any, **options: Any) -> Any:
         """An :class:`EngineReport` per engine block (a list with ``table()``)."""
@@ -538,37 +539,31 @@ class EnginePlugin:
         return out
 
 
-_WORDS = {"x": "motion along the crank", "y": "motion across the crank", "z": "bounce",
-          "rx": "roll about the crank", "ry": "pitch", "rz": "yaw"}
+_WORDS = {"crank x": "motion along the crank", "crank y": "motion across the crank",
+          "z": "bounce", "crank rx": "roll about the crank", "crank ry": "pitch",
+          "crank rz": "yaw"}
+_KEYS = ("crank x", "crank y", "z", "crank rx", "crank ry", "crank rz")
 
 
-def _label(model: Any, shape: np.ndarray, energy: np.ndarray) -> str | None:
-    total = float(np.sum(energy))
-    if model is None or getattr(model, "assembly", None) is None or total <= 0:
-        return None
-    for spec in engine_specs(model.assembly):
-        labels = [f"{spec.name}.{d}" for d in DOF_NAMES]
-        if not all(lab in model.dofs for lab in labels):
-            continue
-        idx = [model.dofs.index(lab) for lab in labels]
-        share = float(np.sum(np.asarray(energy)[idx])) / total
-        if share < 0.5:
-            continue
-        T = an.axes_transform(an.crank_aligned_axes(spec.crank_axis))
-        p = T @ np.asarray(shape, float)[idx]
-        Mp = T @ an.rigid_mass_matrix(spec.mass, spec.inertia) @ T.T
-        e = p * (Mp @ p)
-        if e.sum() <= 0:
-            continue
-        e = e / e.sum()
-        order = np.argsort(-e)
-        words = f"{spec.name} {_WORDS[an.DIRECTIONS[order[0]]]}"
-        if e[order[1]] > 0.2:
-            words += f" with {_WORDS[an.DIRECTIONS[order[1]]]}"
-        if share < 0.9:
-            words += " + vehicle motion"
-        return words
-    return None
+class _PowertrainUnit(LabelUnit):
+    """A powertrain block's body, named "powertrain" (with the block's name when a
+    file has several), its motion in crank-aligned axes when the model keeps its
+    six DOFs (in global words otherwise)."""
+
+    subsystem = True
+
+    def __init__(self, spec: EngineSpec, several: bool):
+        super().__init__(f"powertrain {spec.name}" if several else "powertrain", (spec.name,))
+        self.T = an.axes_transform(an.crank_aligned_axes(spec.crank_axis))
+        self.Mp = self.T @ an.rigid_mass_matrix(spec.mass, spec.inertia) @ self.T.T
+
+    def describe(self, bodies: UnitMotion) -> Motion | None:
+        b = bodies[0]
+        q, observed = b.six()
+        if not observed.all():
+            return rigid_motion(b.dofs, b.energy, b.value)
+        p = self.T @ q
+        return rigid_motion(_KEYS, p * (self.Mp @ p), p, _WORDS)
 
 
 class _Reports(list):

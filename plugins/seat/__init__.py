@@ -208,6 +208,12 @@ class SeatPlugin:
                 figures.occupant.plot(path)
         return result
 
+    def label_units(self, assembly: Any, spec: SeatSpec) -> list[Any]:
+        """The seat frame, the cushion and the occupant as label units, in words
+        (``driver seat fore-aft``, ``driver whole-body vertical``)."""
+        from .labels import seat_units
+        return seat_units(assembly, spec)
+
     def tables(self, assembly: Any, model: Any, **options: Any) -> list[tuple[str, Any]]:
         """(title, rows) pairs of every seat, for the report."""
         options["assembly"] = assembly

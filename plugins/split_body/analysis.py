@@ -1,8 +1,9 @@
 """The split_body plugin's own analysis: the flexible body's modes in the vehicle.
 
-:func:`flexible_body_modes` computes the vehicle's lowest modes, labels them
-with :func:`~plugins.split_body.labels.flexible_body_label`, and picks the
-body's elastic modes (bending, torsion, axial). Optionally the body is first
+:func:`flexible_body_modes` computes the vehicle's lowest modes with
+:func:`builder.analysis.modes.compute_modes`, so that their labels are those
+of ``lumpgraph modes``, and picks the body's elastic modes (bending,
+torsion, axial: the modes the body leads with one of them). Optionally the body is first
 Craig-Bampton reduced (:func:`~plugins.split_body.reduce.reduce_flexible_body`)
 and the result compared with the full model.
 """
@@ -14,18 +15,16 @@ from typing import Any
 
 import numpy as np
 
-from builder.analysis.modes import label_mode
+from builder.analysis.labels import describe_modes
+from builder.analysis.modes import compute_modes
 from builder.eigen import lowest_modes, natural_frequencies_hz
-from builder.errors import InputError
+from builder.errors import InputError, Where
 from builder.linear import LinearModel
 
-from .labels import beam_chains, flexible_body_label
+from .labels import ELASTIC_FAMILIES, beam_chains
 from .reduce import reduce_flexible_body
 
 __all__ = ["FlexibleBodyModes", "flexible_body_modes"]
-
-_ELASTIC = ("bending", "torsion", "axial")
-
 
 @dataclass(frozen=True)
 class FlexibleBodyModes:
@@ -70,15 +69,6 @@ class FlexibleBodyModes:
         return "\n".join(lines)
 
 
-def _labels(model: LinearModel, shapes: np.ndarray) -> list[str]:
-    energy = shapes * np.asarray(model.M @ shapes)
-    out = []
-    for i in range(shapes.shape[1]):
-        lab = flexible_body_label(model, shapes[:, i], energy[:, i])
-        out.append(lab or label_mode(model, shapes[:, i], energy[:, i]))
-    return out
-
-
 def flexible_body_modes(model: LinearModel, chain: str | None = None, count: int = 30,
                         craig_bampton_modes: int | None = None) -> FlexibleBodyModes:
     """The lowest ``count`` vehicle modes of a full model with a split body.
@@ -90,14 +80,20 @@ def flexible_body_modes(model: LinearModel, chain: str | None = None, count: int
     if not chains:
         raise InputError("the model has no split body (no chain of beam links)")
     name = chain or next(iter(chains))
-    count = min(count, model.n)
-    lam, shapes = lowest_modes(model.K, model.M, count)
-    labels = _labels(model, shapes)
-    elastic = tuple(lab.startswith(name + " ") and any(w in lab.split(" with ")[0]
-                                                       for w in _ELASTIC) for lab in labels)
+    if name not in chains:
+        raise InputError(f'no split body "{name}" (split bodies: {", ".join(chains)})',
+                         Where(field="--chain"))
+    modes = compute_modes(model, min(count, model.n))
+    parts = describe_modes(model, modes.shapes, [m.rigid for m in modes.modes])
+    elastic = tuple(bool(p.parts) and p.parts[0].unit.name == name
+                    and p.parts[0].motion.family in ELASTIC_FAMILIES for p in parts)
     reduced_f = None
     reduced_n = None
     notes = []
+    if any(p.parts and "segment rocking" in p.parts[0].motion.family for p in parts):
+        notes.append(f"segment rocking: the segments rotate against the slope of their "
+                     f"bending line, a mode of the {len(chains[name])}-segment chain with no "
+                     "counterpart in the continuous body (split it finer to follow it)")
     if craig_bampton_modes:
         reduced, cb = reduce_flexible_body(model, name, craig_bampton_modes)
         lam_r, _ = lowest_modes(reduced.K, reduced.M, min(count, reduced.n))
@@ -107,5 +103,6 @@ def flexible_body_modes(model: LinearModel, chain: str | None = None, count: int
                      f"DOFs) to {reduced.n - (model.n - 6 * len(chains[name]))} DOFs "
                      f"({cb.n_modes} fixed-interface modes up to "
                      f"{cb.frequencies_hz.max():.1f} Hz)")
-    return FlexibleBodyModes(name, len(chains[name]), natural_frequencies_hz(lam),
-                             tuple(labels), elastic, reduced_n, reduced_f, tuple(notes))
+    return FlexibleBodyModes(name, len(chains[name]), modes.frequencies_hz,
+                             tuple(m.label for m in modes.modes), elastic, reduced_n, reduced_f,
+                             tuple(notes))

@@ -1,25 +1,32 @@
-"""Mode labels for bodies split into beam-joined segments.
+"""Mode labels of a split body: its segments are named as the body they replaced.
 
-A chain is a set of at least two bodies joined by ``beam`` links (found from
-the assembly's links, so any file that uses beams gets it, not only split
-bodies). When a chain holds most of a mode's kinetic energy, the mode is
-named after the chain (the segments' common name, ``body`` for
-``body_s01 ... body_s10``) rather than after single segments:
+The plugin's hook ``label_units`` gives the core labeller
+(:mod:`builder.analysis.labels`) one :class:`ChainUnit` per split block,
+named after the block (``body`` for ``body_s01 ... body_s10``). In a mode
+the chain's motion over the DOFs the model keeps is split (mass-weighted)
+into a rigid motion of the whole chain about its cg (which is the cg of the
+body it replaced) and the deformation left over:
 
-- the chain's motion is split (M-orthogonally) into the rigid motion of the
-  chain as a whole and the deformation relative to it;
-- mostly rigid: ``body bounce``, ``body pitch`` ... (the dominant rigid
-  direction, as for a rigid body);
+- mostly rigid: the body's bounce, pitch, roll ... from the kinetic energy
+  of each rigid direction about that cg (the same words and rule as the
+  rigid body, so the rigid and the split model of a car name their modes
+  alike); a rigid direction that the kept DOFs cannot tell from another
+  (one segment's bounce cannot show pitch) is not named;
 - mostly deformation: the kind with most kinetic energy among vertical
-  bending (motion along the section's vertical), lateral bending, torsion
-  (rotation about the chain's axis) and axial motion, with its order from
-  the number of nodes along the chain (free-free bending: 2 nodes for the
-  first, 3 for the second; torsion and axial: 1 for the first):
-  ``body first torsion``, ``body second vertical bending``.
+  bending (translation along the section's vertical and rotation about its
+  lateral axis), lateral bending, torsion (rotation about the chain's axis)
+  and axial motion, counted by the core labeller (``body first torsion``,
+  ``body second vertical bending``) and given with its nodes, where the
+  deflection changes sign (from a cubic Hermite interpolation of the segment
+  deflections and slopes; a free-free body's first bending shape has two
+  nodes, its first torsion and axial shapes one). A bending mode whose
+  segments rotate against the slope of their own bending line (the upper
+  branch of a chain of rigid segments, about one mode per segment, with no
+  counterpart in the continuous body: the split is too coarse to follow
+  it) is a ``vertical segment rocking`` mode, counted on its own.
 
-A body outside the chain holding at least 20 % of the energy is added:
-``body first torsion with engine roll``; when such a body leads and the chain
-holds 20 to 50 %, the body comes first: ``engine lateral with body lateral``.
+:func:`beam_chains` finds every chain of bodies joined by beam links (for
+the plugin's analysis and Craig-Bampton reduction).
 """
 
 from __future__ import annotations
@@ -30,13 +37,14 @@ from typing import Any
 import networkx as nx
 import numpy as np
 
-from builder.kinematics import DOF_NAMES, skew
+from builder.analysis.labels import LabelUnit, Motion, UnitMotion, rigid_motion
+from builder.kinematics import DOF_NAMES, point_map_all
 
-__all__ = ["beam_chains", "flexible_body_label", "ORDINALS"]
+__all__ = ["beam_chains", "ChainUnit", "split_units", "ELASTIC_FAMILIES"]
 
-ORDINALS = ("first", "second", "third", "fourth", "fifth", "sixth")
-_RIGID_WORDS = {"x": "fore-aft", "y": "lateral", "z": "bounce", "rx": "roll", "ry": "pitch",
-                "rz": "yaw"}
+#: Families of a chain's own elastic modes (segment rocking is not one of them).
+ELASTIC_FAMILIES = ("vertical bending", "lateral bending", "torsion", "axial")
+_RANK = 1e-8          # relative eigenvalue below which a rigid direction is not observable
 
 
 def beam_chains(assembly: Any) -> dict[str, list[str]]:
@@ -67,144 +75,186 @@ def _common_name(names: list[str]) -> str:
 
 
 def _ordered(assembly: Any, members: list[str]) -> list[str]:
-    cgs = np.array([assembly.bodies[m].cg for m in members])
-    axis = cgs[-1] - cgs[0] if len(cgs) > 1 else np.array([1.0, 0, 0])
-    if np.linalg.norm(axis) == 0:
-        return members
-    order = np.argsort(cgs @ axis)
-    return [members[i] for i in order]
+    cgs = np.array([assembly.bodies[m].cg for m in members], dtype=float)
+    axis = _axis(cgs)
+    return [members[i] for i in np.argsort(cgs @ axis, kind="stable")]
 
 
-def _ordinal(n: int) -> str:
-    return ORDINALS[n - 1] if 1 <= n <= len(ORDINALS) else f"{n}th"
+def _axis(cgs: np.ndarray) -> np.ndarray:
+    """The line of the segment cgs (principal direction), pointing to +x (else +y, +z)."""
+    if len(cgs) < 2:
+        return np.array([1.0, 0.0, 0.0])
+    _, _, vt = np.linalg.svd(cgs - cgs.mean(axis=0), full_matrices=False)
+    axis = vt[0]
+    lead = next(i for i in range(3) if abs(axis[i]) > 1e-9)
+    return axis if axis[lead] > 0 else -axis
 
 
-def _nodes(values: np.ndarray, floor: float = 0.05) -> int:
-    """Sign changes along the chain, ignoring values below ``floor`` of the largest."""
+def split_units(assembly: Any, spec: Any) -> list[ChainUnit]:
+    """The label unit of one split block: its segments ``NAME_sNN`` as ``NAME``."""
+    prefix = getattr(spec, "name", "") or getattr(spec, "body", "")
+    pattern = re.compile(rf"{re.escape(prefix)}_s\d+")
+    members = [b for b in assembly.bodies if pattern.fullmatch(b)]
+    if len(members) < 2:
+        return []
+    return [ChainUnit(prefix, assembly, members)]
+
+
+class ChainUnit(LabelUnit):
+    """Segments joined by beams, labelled as one body (see the module notes)."""
+
+    def __init__(self, name: str, assembly: Any, members: list[str]):
+        bodies = [assembly.bodies[m] for m in members]
+        cgs = np.array([b.cg for b in bodies], dtype=float)
+        axis = _axis(cgs)
+        order = np.argsort(cgs @ axis, kind="stable")
+        super().__init__(name, [members[i] for i in order])
+        bodies = [bodies[i] for i in order]
+        self.masses = np.array([b.mass for b in bodies], dtype=float)
+        self.cgs = cgs[order]
+        self.centre = self.masses @ self.cgs / self.masses.sum()
+        vertical = np.array([0.0, 0.0, 1.0]) - axis[2] * axis
+        if np.linalg.norm(vertical) < 1e-6:
+            vertical = np.array([1.0, 0.0, 0.0]) - axis[0] * axis
+        self.axis = axis
+        self.vertical = vertical / np.linalg.norm(vertical)
+        self.lateral = np.cross(self.vertical, axis)
+        self.s = (self.cgs - self.centre) @ axis
+        self.start = float(self.s[0] - (self.s[1] - self.s[0]) / 2) if len(self.s) > 1 \
+            else float(self.s[0])
+        self.M6 = np.array([b.mass_matrix for b in bodies])
+        # rigid motion about the centre -> each segment's motion at its cg
+        self.R = np.zeros((len(self.cgs), 6, 6))
+        self.R[:, :3, :] = point_map_all(self.cgs - self.centre)
+        self.R[:, 3:, 3:] = np.eye(3)
+        self.Mr = np.einsum("nji,njk,nkl->il", self.R, self.M6, self.R)
+        inertias = np.array([b.inertia for b in bodies], dtype=float)
+        self.inertia = {key: np.einsum("i,nij,j->n", v, inertias, v)
+                        for key, v in (("axis", axis), ("vertical", self.vertical),
+                                       ("lateral", self.lateral))}
+        self._fits: dict[bytes, tuple[list[int], np.ndarray, np.ndarray, np.ndarray,
+                                      np.ndarray]] = {}
+
+    # -- the rigid fit over the observed DOFs, once per pattern of kept DOFs
+    def _fit(self, observed: np.ndarray) -> tuple[list[int], np.ndarray, np.ndarray,
+                                                  np.ndarray, np.ndarray]:
+        key = observed.tobytes()
+        if key not in self._fits:
+            W = self.M6 * observed[:, :, None] * observed[:, None, :]
+            selected: list[int] = []
+            for k in range(6):
+                trial = selected + [k]
+                RS = self.R[:, :, trial]
+                A = np.einsum("nji,njk,nkl->il", RS, W, RS)
+                d = np.sqrt(np.clip(np.diag(A), 0.0, None))
+                if d[-1] <= 0:
+                    continue
+                if np.linalg.eigvalsh(A / np.outer(d, d)).min() > _RANK:
+                    selected = trial
+            RS = self.R[:, :, selected]
+            WR = np.einsum("njk,nkl->njl", W, RS)
+            A = np.einsum("nji,njk->ik", RS, WR)
+            self._fits[key] = (selected, RS, WR, A, W)
+        return self._fits[key]
+
+    def describe(self, bodies: UnitMotion) -> Motion | None:
+        q, observed, _ = bodies.six()
+        q = q * observed
+        selected, RS, WR, A, W = self._fit(observed)
+        c = np.linalg.solve(A, np.einsum("nji,nj->i", WR, q)) if selected else np.zeros(0)
+        rigid_part = np.einsum("nij,j->ni", RS, c) if selected else np.zeros_like(q)
+        d = (q - rigid_part) * observed
+        e_def = float(np.einsum("ni,nij,nj->", d, W, d))
+        e_rigid = float(c @ A @ c) if selected else 0.0
+        total = e_def + e_rigid
+        if total <= 0:
+            return None
+        c6 = np.zeros(6)
+        c6[selected] = c
+        rigid = rigid_motion(DOF_NAMES, c6 * (self.Mr @ c6), c6)
+        kind, nodes, rocking = self._deformation(d, observed)
+        if e_def > e_rigid or rigid is None:
+            family = kind.replace("bending", "segment rocking") if rocking else kind
+            words = f"{{order}} {family}"
+            if rigid is not None and e_rigid >= 0.25 * total:
+                words += " with " + rigid.words.split(" with ")[0]
+            flat = d.ravel()
+            shape = (flat, np.einsum("nij,nj->ni", W, d).ravel())
+            return Motion(words, family=family, more=words, nodes=nodes, shape=shape)
+        if e_def >= 0.25 * total:
+            joint = " and " if " with " in rigid.words else " with "
+            return Motion(rigid.words + joint + kind, rigid.direction, rigid.sign,
+                          more=rigid.more + joint + kind)
+        return rigid
+
+    def _deformation(self, d: np.ndarray, observed: np.ndarray
+                     ) -> tuple[str, tuple[float, ...], bool]:
+        """(kind, node positions along the chain in m from its first end, rocking)."""
+        t, r = d[:, :3], d[:, 3:]
+        w, v, u = t @ self.vertical, t @ self.lateral, t @ self.axis
+        twist = r @ self.axis
+        slope_w, slope_v = -(r @ self.lateral), r @ self.vertical   # dw/ds, dv/ds
+        dot = np.dot
+        energy = {"vertical bending": dot(self.masses, w ** 2)
+                  + dot(self.inertia["lateral"], slope_w ** 2),
+                  "lateral bending": dot(self.masses, v ** 2)
+                  + dot(self.inertia["vertical"], slope_v ** 2),
+                  "torsion": dot(self.inertia["axis"], twist ** 2),
+                  "axial": dot(self.masses, u ** 2)}
+        kind = max(energy, key=energy.get)
+        seen = observed.any(axis=1)
+        if kind.endswith("bending"):
+            value, slope = (w, slope_w) if kind.startswith("vertical") else (v, slope_v)
+            plane = observed[:, [2, 4]] if kind.startswith("vertical") else observed[:, [1, 5]]
+            full_plane = bool(plane.all()) and len(self.s) >= 2
+            if full_plane:
+                s, x = _hermite(self.s, value, slope)
+                nodes = _crossings(s, x, floor=1e-3)
+            else:
+                nodes = _crossings(self.s[seen], value[seen])
+            rocking = full_plane and len(self.s) >= 3 and _against(slope, np.gradient(value,
+                                                                                       self.s))
+        else:
+            value = twist if kind == "torsion" else u
+            nodes = _crossings(self.s[seen], value[seen])
+            rocking = False
+        return kind, tuple(float(p - self.start) for p in nodes), rocking
+
+
+def _against(slope: np.ndarray, gradient: np.ndarray) -> bool:
+    """True when the segments' rotation opposes the slope of their deflection line."""
+    den = float(np.linalg.norm(slope) * np.linalg.norm(gradient))
+    return den > 0 and float(np.dot(slope, gradient)) / den < 0.0
+
+
+def _crossings(s: np.ndarray, values: np.ndarray, floor: float = 0.05) -> list[float]:
+    """Where ``values`` (sampled at increasing ``s``) change sign, ignoring values
+    below ``floor`` of the largest; linear between the samples."""
+    if values.size < 2 or not np.abs(values).max() > 0:
+        return []
     big = np.abs(values) >= floor * np.abs(values).max()
-    signs = np.sign(values[big])
-    return int(np.sum(signs[1:] != signs[:-1]))
+    s, x = s[big], values[big]
+    out = []
+    for k in np.flatnonzero(np.sign(x[1:]) != np.sign(x[:-1])):
+        out.append(float(s[k] + (s[k + 1] - s[k]) * x[k] / (x[k] - x[k + 1])))
+    return out
 
 
-def _hermite(s: np.ndarray, w: np.ndarray, slope: np.ndarray, per: int = 16) -> np.ndarray:
-    """A deflection sampled along the chain by cubic Hermite interpolation of
-    the segment centres' deflections and slopes (so that a coarse chain's
-    higher bending shapes keep their nodes), extended to the chain's ends."""
-    # The end segments reach half a spacing beyond their centres: extend linearly.
+def _hermite(s: np.ndarray, w: np.ndarray, slope: np.ndarray, per: int = 16
+             ) -> tuple[np.ndarray, np.ndarray]:
+    """A deflection sampled along the chain by cubic Hermite interpolation of the
+    segment centres' deflections and slopes (so that a coarse chain's higher
+    bending shapes keep their nodes), extended to the chain's ends (half a
+    spacing beyond the end centres). Returns (positions, deflections)."""
     d0, d1 = (s[1] - s[0]) / 2, (s[-1] - s[-2]) / 2
     s = np.concatenate([[s[0] - d0], s, [s[-1] + d1]])
     w = np.concatenate([[w[0] - d0 * slope[0]], w, [w[-1] + d1 * slope[-1]]])
     slope = np.concatenate([[slope[0]], slope, [slope[-1]]])
-    t = np.linspace(0.0, 1.0, per, endpoint=False)
+    t = np.linspace(0.0, 1.0, per, endpoint=False)[None, :]
     h00, h10 = 2 * t ** 3 - 3 * t ** 2 + 1, t ** 3 - 2 * t ** 2 + t
     h01, h11 = -2 * t ** 3 + 3 * t ** 2, t ** 3 - t ** 2
-    out = []
-    for i in range(len(s) - 1):
-        d = s[i + 1] - s[i]
-        out.append(h00 * w[i] + h10 * d * slope[i] + h01 * w[i + 1] + h11 * d * slope[i + 1])
-    out.append(np.array([w[-1]]))
-    return np.concatenate(out)
-
-
-def flexible_body_label(model: Any, shape: np.ndarray, energy: np.ndarray) -> str | None:
-    """A label for a mode in which a beam chain takes part, or None.
-
-    ``model`` is a full (not reduced) LinearModel with its assembly; ``shape``
-    and ``energy`` (kinetic-energy share per DOF) are over ``model.dofs``.
-    None when no chain holds at least 20 % of the energy (the ordinary
-    rigid-body labels then apply).
-    """
-    asm = getattr(model, "assembly", None)
-    if asm is None:
-        return None
-    chains = beam_chains(asm)
-    if not chains:
-        return None
-    index = {d: i for i, d in enumerate(model.dofs)}
-    e = np.clip(np.asarray(energy, float), 0.0, None)
-    total = e.sum() or 1.0
-    owner = {m: name for name, members in chains.items() for m in members}
-    units: dict[str, float] = {}
-    for d, i in index.items():
-        body = d.rsplit(".", 1)[0]
-        unit = owner.get(body, body)
-        units[unit] = units.get(unit, 0.0) + e[i] / total
-    chain_units = [u for u in units if u in chains]
-    if not chain_units:
-        return None
-    best = max(chain_units, key=lambda u: units[u])
-    members = chains[best]
-    if units[best] < 0.2 or any(asm.bodies[m].dofs != DOF_NAMES for m in members):
-        return None
-    chain_words = _chain_label(asm, members, shape, index, best)
-    others = sorted((u for u in units if u != best), key=lambda u: -units[u])
-
-    def word_of(body: str) -> str:
-        dofs = [d for d in index if d.rsplit(".", 1)[0] == body]
-        main = max(dofs, key=lambda d: e[index[d]]).rsplit(".", 1)[1]
-        return f"{body} {_RIGID_WORDS.get(main, main)}"
-
-    if units[best] >= 0.5:
-        if others and units[others[0]] >= 0.2:
-            other = others[0]
-            part = _chain_label(asm, chains[other], shape, index, other) \
-                if other in chains else word_of(other)
-            return f"{chain_words} with {part}"
-        return chain_words
-    lead = others[0]
-    if lead in chains:
-        return f"{_chain_label(asm, chains[lead], shape, index, lead)} with {chain_words}"
-    return f"{word_of(lead)} with {chain_words}"
-
-
-def _chain_label(asm: Any, members: list[str], shape: np.ndarray, index: dict[str, int],
-                 name: str) -> str:
-    n = len(members)
-    q = np.array([[shape[index[f"{m}.{d}"]] for d in DOF_NAMES] for m in members])  # n x 6
-    mass = [asm.bodies[m].mass_matrix for m in members]
-    cgs = np.array([asm.bodies[m].cg for m in members])
-    masses = np.array([asm.bodies[m].mass for m in members])
-    centre = masses @ cgs / masses.sum()
-    # Rigid motions of the chain about its centre, at each segment cg (6n x 6).
-    rigid = np.zeros((6 * n, 6))
-    for i, c in enumerate(cgs):
-        rigid[6 * i:6 * i + 3, :3] = np.eye(3)
-        rigid[6 * i:6 * i + 3, 3:] = -skew(c - centre)
-        rigid[6 * i + 3:6 * i + 6, 3:] = np.eye(3)
-    big_m = np.zeros((6 * n, 6 * n))
-    for i, m6 in enumerate(mass):
-        big_m[6 * i:6 * i + 6, 6 * i:6 * i + 6] = m6
-    x = q.ravel()
-    mr = rigid.T @ big_m @ rigid
-    coords = np.linalg.solve(mr, rigid.T @ big_m @ x)
-    rigid_part = rigid @ coords
-    deform = x - rigid_part
-    e_rigid = float(rigid_part @ big_m @ rigid_part)
-    e_def = float(deform @ big_m @ deform)
-    if e_rigid >= e_def:
-        shares = coords ** 2 * np.diag(mr)
-        return f"{name} {_RIGID_WORDS[DOF_NAMES[int(np.argmax(shares))]]}"
-    axis = cgs[-1] - cgs[0]
-    axis = axis / np.linalg.norm(axis)
-    vertical = np.array([0.0, 0.0, 1.0]) - axis[2] * axis
-    if np.linalg.norm(vertical) < 1e-6:
-        vertical = np.array([1.0, 0.0, 0.0]) - axis[0] * axis
-    vertical /= np.linalg.norm(vertical)
-    lateral = np.cross(vertical, axis)
-    d = deform.reshape(n, 6)
-    parts = {"vertical bending": d[:, :3] @ vertical, "lateral bending": d[:, :3] @ lateral,
-             "axial": d[:, :3] @ axis, "torsion": d[:, 3:] @ axis}
-    inertia_axis = np.array([axis @ asm.bodies[m].inertia @ axis for m in members])
-    energies = {k: float(masses @ v ** 2) for k, v in parts.items() if k != "torsion"}
-    energies["torsion"] = float(inertia_axis @ parts["torsion"] ** 2)
-    kind = max(energies, key=energies.get)
-    if kind.endswith("bending"):
-        # slope of the deflection: w' = theta . (axis x vertical), v' = theta . (axis x lateral)
-        along = np.cross(axis, vertical if kind.startswith("vertical") else lateral)
-        s_pos = cgs @ axis
-        # The smooth interpolant keeps small end lobes: a low floor suffices.
-        nodes = _nodes(_hermite(s_pos, parts[kind], d[:, 3:] @ along), floor=1e-3)
-    else:
-        nodes = _nodes(parts[kind])
-    order = max(1, nodes - 1) if kind.endswith("bending") else max(1, nodes)
-    return f"{name} {_ordinal(order)} {kind}"
+    d = np.diff(s)[:, None]
+    pos = s[:-1, None] + t * d
+    out = (h00 * w[:-1, None] + h10 * d * slope[:-1, None] + h01 * w[1:, None]
+           + h11 * d * slope[1:, None])
+    return np.append(pos.ravel(), s[-1]), np.append(out.ravel(), w[-1])

@@ -90,10 +90,10 @@ class SplitBodyPlugin:
         from .summary import check_summary
         return check_summary(model, eigenvalues, shapes)
 
-    def label_mode(self, model: Any, shape: Any, energy: Any) -> str | None:
-        """A label for modes in which a split body takes part (else None)."""
-        from .labels import flexible_body_label
-        return flexible_body_label(model, shape, energy)
+    def label_units(self, assembly: Assembly, spec: SplitSpec) -> list[Any]:
+        """The split body's segments as one label unit, named as the block."""
+        from .labels import split_units
+        return split_units(assembly, spec)
 
 
 PLUGIN = SplitBodyPlugin()

@@ -340,13 +340,19 @@ def uniform_bar(segments: int, length: float, mass_per_length: float,
     rotary inertia ``polar_inertia_per_length`` (kg m, shared equally by the
     two transverse axes, as for a round or square section) and the thin-rod
     inertia m L^2/12, then split into ``segments`` equal segments joined by
-    beams of the given ``section`` (EA, EIy, EIz, GJ in N, N m^2). Used by
-    the benchmark and tests as the textbook free-free beam.
+    beams of the given ``section`` (EA, EIy, EIz, GJ in N, N m^2), recorded
+    as a use of the split_body plugin. Used by the benchmark and tests as the
+    textbook free-free beam.
     """
+    from builder.plugin import PluginUse
+
     m = mass_per_length * length
     ip = polar_inertia_per_length * length
     inertia = np.diag([ip, m * length ** 2 / 12 + ip / 2, m * length ** 2 / 12 + ip / 2])
     bar = Body(name, m, np.array([length / 2, 0.0, 0.0]), inertia, DOF_NAMES)
     asm = Assembly(name, "spatial", {name: bar})
-    return split_body(asm, SplitSpec(name, segments=segments, start=0.0, end=length,
-                                     section=dict(section)))
+    spec = SplitSpec(name, segments=segments, start=0.0, end=length, section=dict(section))
+    # Recorded as a use of the installed plugin, as a file's would be, so that
+    # labels name the bar.
+    return split_body(asm, spec).replace(plugins=(PluginUse("split_body", name, spec,
+                                                            Where()),))
