@@ -59,8 +59,9 @@ points with ``y > 0``, ``y < 0`` and ``y = 0``, as in :mod:`.road`).
 Every sensor gets its peak ``max |y|``, extremes and RMS over the record;
 acceleration sensors also the ISO 2631-1 weighted history (the weighting of
 their direction, causal filter of :func:`builder.analysis.comfort.weighted_time_history`
-with ``method="iir"``), its RMS, crest factor and the vibration dose value
-``VDV = (integral a_w^4 dt)^(1/4)``. The bilinear weighting filter is within
+with ``method="iir"``), its RMS, crest factor, MTVV and the vibration dose value
+``VDV = (integral a_w^4 dt)^(1/4)``, by :func:`builder.analysis.evaluate.channel_figures`,
+the function that evaluates measured records. The bilinear weighting filter is within
 about 2 % of the analog one up to 80 Hz at 1 kHz, and 0.5 % at 2 kHz.
 
 Hysteretic (loss-factor) damping has no time-domain form and is left out
@@ -80,6 +81,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from ..errors import InputError, Where
 from . import comfort, road
+from .evaluate import channel_figures
 from .ride import sensor_weighting
 
 __all__ = [
@@ -536,18 +538,21 @@ def _result(model: Any, assembly: Any, rows: NDArray, t: NDArray, r: NDArray, y:
     names = tuple(model.sensors[i] for i in rows)
     units = tuple(model.sensor_units[i] for i in rows)
     measures = tuple(model.sensor_measures[i] for i in rows)
-    weighting, weighted_rms, vdv, crest = {}, {}, {}, {}
+    weighting, weighted_rms, vdv, crest, mtvv = {}, {}, {}, {}, {}
     for k, (name, unit, measure) in enumerate(zip(names, units, measures, strict=True)):
         if measure != "acceleration":
             continue
         info = asm.sensors.get(name) if asm is not None else None
         w = sensor_weighting(info) if info is not None else (
             "We" if unit.startswith("rad") else "Wk")
-        aw = comfort.weighted_time_history(t, y[:, k], w, method="iir")
+        # the same figures as a measured record (builder.analysis.evaluate), from rest
+        figures, _ = channel_figures(y[:, k], 1.0 / float(t[1] - t[0]), w, name=name,
+                                     unit=unit, remove_mean=False)
         weighting[name] = w
-        weighted_rms[name] = float(np.sqrt(np.mean(aw**2)))
-        vdv[name] = comfort.vdv(t, aw)
-        crest[name] = comfort.crest_factor(aw)
+        weighted_rms[name] = figures.weighted_rms
+        vdv[name] = figures.vdv
+        crest[name] = figures.crest_factor
+        mtvv[name] = figures.mtvv
     static, least = _contact_loads(model, asm, rows, names, measures, y)
     if any(ratio < 0 for ratio in least.values()):
         lifted = ", ".join(n for n, ratio in least.items() if ratio < 0)
@@ -558,7 +563,7 @@ def _result(model: Any, assembly: Any, rows: NDArray, t: NDArray, r: NDArray, y:
         time_s=t, inputs=tuple(model.inputs), road_m=r, sensors=names, units=units,
         measures=measures, y=y, speed_m_s=float(v), event=dict(event),
         description=description, weighting=weighting, weighted_rms=weighted_rms, vdv=vdv,
-        crest_factor=crest, static=static, least_load_ratio=least,
+        crest_factor=crest, mtvv=mtvv, static=static, least_load_ratio=least,
         model_name=getattr(model, "name", ""), notes=tuple(notes))
 
 
@@ -619,6 +624,7 @@ class TimeResponse:
     weighted_rms: dict[str, float] = field(default_factory=dict)
     vdv: dict[str, float] = field(default_factory=dict)
     crest_factor: dict[str, float] = field(default_factory=dict)
+    mtvv: dict[str, float] = field(default_factory=dict)
     static: dict[str, float] = field(default_factory=dict)
     least_load_ratio: dict[str, float] = field(default_factory=dict)
     model_name: str = ""
@@ -668,7 +674,8 @@ class TimeResponse:
                 entry.update(weighting=self.weighting[name],
                              weighted_rms=self.weighted_rms[name], vdv=self.vdv[name],
                              vdv_unit=self._vdv_unit(name),
-                             crest_factor=self.crest_factor[name])
+                             crest_factor=self.crest_factor[name],
+                             mtvv=self.mtvv.get(name, math.nan))
             if name in self.static:
                 entry["static"] = self.static[name]
             if name in self.least_load_ratio:
