@@ -111,7 +111,8 @@ class Clipping:
 
 @dataclass(frozen=True, eq=False)
 class Record:
-    """Channels sampled at ``rate_hz``: ``data`` (samples, channels) in SI units.
+    """Channels sampled at ``rate_hz``: ``data`` (samples, channels) in SI units, stored
+    channel by channel (Fortran order), so a channel is one contiguous block.
 
     ``units`` are "m/s^2" or "rad/s^2"; ``start_s`` the time of the first
     sample; ``clipped`` the channels that look clipped; ``warnings`` what the
@@ -373,7 +374,7 @@ def _csv_record(path: str, rate_hz: float | None, rate_where: Where) -> Record:
         if clip is not None:
             clipped[col.name] = Clipping(clip[0], clip[1], f"line {table.line_of(clip[2])}")
     return Record(path, float(rate), tuple(c.name for c in columns), tuple(units),
-                  np.ascontiguousarray(values), start, clipped, tuple(warnings))
+                  np.asfortranarray(values), start, clipped, tuple(warnings))
 
 
 def _flat_top(x: NDArray) -> tuple[float, int, int] | None:
@@ -430,19 +431,23 @@ def _wav_record(path: str, rate_hz: float | None, rate_where: Where,
         warnings.append(f"{os.path.basename(path)}: the file says {rate:g} Hz; the "
                         f"{given:g} Hz given is used")
         rate = given
+    values = np.empty(raw.shape, dtype=np.float64, order="F")     # channel by channel
     if np.issubdtype(raw.dtype, np.integer):
         info = np.iinfo(raw.dtype)
-        rail = float(info.max)
         if raw.dtype == np.uint8:                      # 8-bit WAV is offset binary
-            values = (raw.astype(np.float64) - 128.0) / 127.0
-            at_rail = (raw == 0) | (raw == 255)
+            offset, rail, low, high = 128.0, 127.0, 0, 255
         else:
-            values = raw.astype(np.float64) / rail
-            at_rail = (raw >= info.max) | (raw <= info.min + (0 if info.min == -rail else 1))
+            offset, rail, low, high = 0.0, float(info.max), int(info.min), int(info.max)
+        for k in range(count):
+            column = values[:, k]
+            column[:] = raw[:, k]
+            column -= offset
+            column *= scale[k] / rail
+        at_rail = (raw <= low) | (raw >= high)
     else:
-        values = raw.astype(np.float64)
+        values[:] = raw
         at_rail = np.abs(values) >= 1.0
-    values *= scale[None, :]
+        values *= scale[None, :]
     bad = ~np.isfinite(values)
     if bad.any():
         row, k = np.argwhere(bad)[0]
@@ -453,8 +458,7 @@ def _wav_record(path: str, rate_hz: float | None, rate_where: Where,
         if hits.size:
             clipped[name] = Clipping(float(scale[k]), int(hits.size), f"sample {int(hits[0])}")
     units = tuple("m/s^2" for _ in names)
-    return Record(path, rate, names, units, np.ascontiguousarray(values), 0.0, clipped,
-                  tuple(warnings))
+    return Record(path, rate, names, units, values, 0.0, clipped, tuple(warnings))
 
 
 def read_record(path: str | os.PathLike[str], rate_hz: float | None = None, *,

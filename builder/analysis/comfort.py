@@ -64,7 +64,7 @@ __all__ = [
     "weighting", "weighting_magnitude", "weighting_for_direction",
     "weighted_rms_from_psd", "weighted_time_history", "weighted_rms_from_time",
     "vdv", "estimated_vdv", "crest_factor", "vector_sum", "comfort_reactions", "evaluate_comfort",
-    "RUNNING_RMS_S", "running_rms", "mtvv", "filter_deviation",
+    "RUNNING_RMS_S", "running_rms", "mtvv", "filter_deviation", "weighted_at_rate",
 ]
 
 CAUTION = (
@@ -321,11 +321,18 @@ def weighted_time_history(t: ArrayLike, a: ArrayLike, name: str,
         f = np.fft.rfftfreq(aa.size, dt)
         return np.fft.irfft(spectrum * _factors(par, 2j * math.pi * f), aa.size)
     if method == "iir":
-        from scipy import signal
-
-        return signal.sosfilt(_bilinear_sos(par, 1.0 / dt), aa)
+        return weighted_at_rate(aa, 1.0 / dt, name)
     raise InputError(f"unknown weighting method {method!r}: use fft or iir",
                      Where(field="method"))
+
+
+def weighted_at_rate(a: ArrayLike, rate_hz: float, name: str) -> NDArray[np.float64]:
+    """The causal weighting filter (``method="iir"`` of :func:`weighted_time_history`) on
+    samples ``a`` (m/s^2) taken at ``rate_hz`` (Hz), from rest."""
+    from scipy import signal
+
+    return signal.sosfilt(_bilinear_sos(_parameters(name), float(rate_hz)),
+                          np.asarray(a, dtype=float))
 
 
 def weighted_rms_from_time(t: ArrayLike, a: ArrayLike, name: str, method: str = "fft") -> float:
@@ -369,8 +376,14 @@ def running_rms(aw: ArrayLike, rate_hz: float,
                          f"{rate_hz!r} Hz", Where(field="rate"))
     if x.size < window:
         return np.zeros(0)
-    total = np.concatenate([[0.0], np.cumsum(x * x)])
-    return np.sqrt(np.clip(total[window:] - total[:-window], 0.0, None) / window)
+    total = np.empty(x.size + 1)
+    total[0] = 0.0
+    np.cumsum(x * x, out=total[1:])
+    out = total[window:] - total[:-window]
+    del total
+    np.maximum(out, 0.0, out=out)
+    out /= window
+    return np.sqrt(out, out=out)
 
 
 def mtvv(aw: ArrayLike, rate_hz: float, integration_s: float = RUNNING_RMS_S) -> float:

@@ -227,18 +227,22 @@ def channel_figures(a: ArrayLike, rate_hz: float, weighting: str = "Wk", *, name
         raise InputError(f"{name or 'a channel'} needs at least four samples",
                          Where(field="samples"))
     weighting = _check_weighting(weighting, Where(field="weighting"))
+    x = np.array(x, dtype=float, order="C")           # a contiguous copy, changed in place
     mean = float(np.mean(x)) if remove_mean else None
     if mean is not None:
-        x = x - mean
+        x -= mean
     if weighting == "none":
         aw = x
     else:
-        t = np.arange(x.size) / rate
-        aw = comfort.weighted_time_history(t, x, weighting, method="iir")
+        aw = comfort.weighted_at_rate(x, rate, weighting)
     window = int(round(comfort.RUNNING_RMS_S * rate))
     running = comfort.running_rms(aw, rate)
-    peak_w = float(np.max(np.abs(aw)))
-    aw_rms = float(np.sqrt(np.mean(aw * aw)))
+    peak_w = float(max(aw.max(), -aw.min()))
+    squares = aw * aw
+    aw_rms = math.sqrt(float(np.mean(squares)))
+    np.multiply(squares, squares, out=squares)        # a_w^4, for the dose
+    dose = float(np.sum(squares) / rate) ** 0.25
+    del squares
     if running.size:
         k = int(np.argmax(running))
         mtvv, mtvv_time = float(running[k]), start_s + (k + window) / rate
@@ -246,10 +250,10 @@ def channel_figures(a: ArrayLike, rate_hz: float, weighting: str = "Wk", *, name
         mtvv, mtvv_time = math.nan, math.nan
     figures = ChannelFigures(
         name=name, unit=unit, weighting=weighting, rate_hz=rate, samples=int(x.size),
-        rms=float(np.sqrt(np.mean(x * x))), peak=float(np.max(np.abs(x))),
+        rms=math.sqrt(float(np.dot(x, x)) / x.size), peak=float(max(x.max(), -x.min())),
         weighted_rms=aw_rms, weighted_peak=peak_w,
         crest_factor=peak_w / aw_rms if aw_rms > 0 else 0.0,
-        vdv=float(np.sum(aw**4) / rate) ** 0.25, mtvv=mtvv, mtvv_time_s=mtvv_time, mean=mean)
+        vdv=dose, mtvv=mtvv, mtvv_time_s=mtvv_time, mean=mean)
     return figures, (_trace(x, aw, running, rate, start_s, window) if trace else None)
 
 
@@ -298,23 +302,26 @@ def band_spectrum(a: ArrayLike, rate_hz: float, weighting: str,
                   centres: ArrayLike) -> tuple[NDArray, NDArray]:
     """Band RMS (unweighted, weighted) of ``a`` in one-third-octave bands at ``centres``.
 
-    From the discrete Fourier transform of the mean-removed record: the
+    From the discrete Fourier transform of the record (its mean left out): the
     mean square in a band is the sum of the one-sided bin powers whose
     frequency lies within ``fc 10^(-1/20)`` to ``fc 10^(1/20)``; weighted, each
     bin is multiplied by ``|W(f)|^2`` first. By Parseval the bands sum to the
     signal's variance over their range.
     """
+    from scipy import fft
+
     x = np.asarray(a, dtype=float)
-    x = x - x.mean()
     n = x.size
-    spectrum = np.fft.rfft(x)
-    power = (np.abs(spectrum) / n) ** 2
-    power[1:] *= 2.0
-    if n % 2 == 0:
-        power[-1] /= 2.0
-    f = np.fft.rfftfreq(n, 1.0 / float(rate_hz))
     fc = np.asarray(centres, dtype=float)
     edges = np.concatenate([fc * 10 ** -0.05, fc[-1:] * 10 ** 0.05])
+    spectrum = fft.rfft(x, workers=-1)
+    f = np.fft.rfftfreq(n, 1.0 / float(rate_hz))
+    top = int(np.searchsorted(f, edges[-1], side="right"))
+    spectrum, f = spectrum[:top], f[:top]                   # only the bins the bands need
+    power = (spectrum.real**2 + spectrum.imag**2) * (2.0 / n**2)
+    power[0] = 0.0                                           # the mean: no vibration
+    if n % 2 == 0 and top == n // 2 + 1:
+        power[-1] /= 2.0
     index = np.searchsorted(edges, f, side="left")
     inside = (index >= 1) & (index <= fc.size)
     cum = np.bincount(index[inside] - 1, weights=power[inside], minlength=fc.size)

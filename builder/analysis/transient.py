@@ -87,7 +87,8 @@ from .ride import sensor_weighting
 __all__ = [
     "SHAPES", "DEFAULT_RATE", "SETTLE_S", "MAX_SAMPLES", "RoadEvent", "TimeResponse",
     "road_event", "event_response", "default_duration", "road_history_response",
-    "random_road_response", "random_road_inputs",
+    "random_road_response", "random_road_inputs", "hold_step", "state_space",
+    "time_response",
 ]
 
 SHAPES = ("bump", "pothole", "step")
@@ -179,6 +180,13 @@ def _step_matrices(A: NDArray, B: NDArray, h: float, omega: float) -> tuple[NDAr
         gam[2] = E[:N, p:p + m]          # p(0) = I, q(0) = 0: p = cos
         gam[3] = -E[:N, q:q + m]         # p(0) = 0, q(0) = -I: p = sin
     return E[:N, :N], gam
+
+
+def hold_step(A: NDArray, B: NDArray, dt: float) -> tuple[NDArray, NDArray, NDArray]:
+    """``(e^{A dt}, Gamma0, Gamma1)`` of one step ``dt`` (s) of an input that is a
+    straight line on the step: ``x(dt) = e^{A dt} x(0) + Gamma0 u(0) + Gamma1 u'``."""
+    Phi, gam = _step_matrices(A, B, dt, 0.0)
+    return Phi, gam[0], gam[1]
 
 
 def _recurrence(A: NDArray, Phi: NDArray, g: NDArray, dt: float, Cout: NDArray,
@@ -349,6 +357,23 @@ def _state_space(model: Any, sensors: Sequence[str] | None) -> tuple[NDArray, ..
         raise InputError("the model has no sensors to report", Where(field="sensors"))
     A, B, C, D = model.to_state_space()
     return A, B, C[rows], D[rows], np.array(rows, dtype=int)
+
+
+def state_space(model: Any, sensors: Sequence[str] | None = None) -> tuple[NDArray, ...]:
+    """``(A, B, C, D, rows)`` of the model for time responses: the outputs of ``sensors``
+    (default all) and their rows in ``model.sensors``; errors for a model that has no
+    DOFs, road inputs or sensors."""
+    return _state_space(model, sensors)
+
+
+def time_response(model: Any, rows: NDArray, t: NDArray, r: NDArray, y: NDArray, *,
+                  assembly: Any = None, speed_m_s: float = math.nan,
+                  event: dict[str, Any] | None = None,
+                  description: str = "road history") -> TimeResponse:
+    """A :class:`TimeResponse` of sensor histories ``y`` (nt, len(rows)) at ``t`` (s) under
+    road displacements ``r`` (nt, nr), with its ISO 2631-1 and load figures."""
+    return _result(model, assembly, np.asarray(rows), t, r, y, speed_m_s, event or {},
+                   description, _notes(model))
 
 
 def _notes(model: Any) -> list[str]:
