@@ -20,7 +20,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from .errors import InputError, Where
-from .records import MAX_GAP_STEPS, MAX_JITTER, column_unit, read_csv_table
+from .records import column_unit, read_csv_table, regular_step
 
 __all__ = ["RoadProfile", "read_profile", "MIN_SAMPLES"]
 
@@ -110,24 +110,5 @@ def read_profile(path: str | os.PathLike[str]) -> RoadProfile:
 
 
 def _step(table, s: NDArray) -> float:
-    ds = np.diff(s)
-    bad = np.flatnonzero(~(ds > 0))
-    if bad.size:
-        i = int(bad[0])
-        what = "repeats" if ds[i] == 0 else "goes back"
-        raise InputError(f"distance {what} ({s[i]:.9g} m, then {s[i + 1]:.9g} m): rows must "
-                         "be in increasing distance", table.where(i + 1, "distance"))
-    step = float(np.median(ds))
-    gaps = np.flatnonzero(ds > MAX_GAP_STEPS * step)
-    if gaps.size:
-        i = int(gaps[0])
-        raise InputError(f"a gap of {ds[i]:.6g} m after {s[i]:.9g} m, where the step is "
-                         f"{step:.6g} m: a profile must be continuous",
-                         table.where(i + 1, "distance"))
-    jitter = float(np.max(np.abs(ds - step)) / step)
-    if jitter > MAX_JITTER:
-        i = int(np.argmax(np.abs(ds - step)))
-        raise InputError(f"the spacing varies by {100 * jitter:.0f} % of the step "
-                         f"({ds[i]:.6g} m against {step:.6g} m): a profile must be sampled "
-                         "at one spacing", table.where(i + 1, "distance"))
+    regular_step(table, s, "distance", "m")
     return float((s[-1] - s[0]) / (s.size - 1))

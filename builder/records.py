@@ -42,7 +42,7 @@ from .errors import InputError, Where
 from .quantities import parse_unit
 
 __all__ = ["GRAVITY", "Column", "CsvTable", "Record", "Clipping", "read_csv_table",
-           "read_record", "column_unit", "acceleration_value", "MAX_GAP_STEPS"]
+           "read_record", "column_unit", "acceleration_value", "regular_step", "MAX_GAP_STEPS"]
 
 #: Standard gravity (m/s^2), the unit ``g`` of accelerometer records.
 GRAVITY = 9.80665
@@ -270,35 +270,41 @@ def _is_time(column: Column) -> bool:
     return column.name.lower() in ("time", "time_s", "t")
 
 
-def _rate_from_time(table: CsvTable, t: NDArray, warnings: list[str]) -> float:
-    path = table.path
-    if t.size < 2:
-        raise InputError("a record needs at least two samples", table.where(None, "time"))
-    dt = np.diff(t)
-    bad = np.flatnonzero(~(dt > 0))
+def regular_step(table: CsvTable, x: NDArray, field: str, unit: str) -> tuple[float, float]:
+    """(median step, largest relative deviation from it) of an increasing, evenly spaced
+    column ``x``; errors name the line where it goes back, repeats, jumps (a gap) or
+    varies by more than :data:`MAX_JITTER` of the step."""
+    if x.size < 2:
+        raise InputError("at least two samples are needed", table.where(None, field))
+    dx = np.diff(x)
+    bad = np.flatnonzero(~(dx > 0))
     if bad.size:
         i = int(bad[0])
-        what = "repeats" if dt[i] == 0 else "goes back"
-        raise InputError(f"time {what} ({t[i]:.9g} s, then {t[i + 1]:.9g} s): samples must be "
-                         "in increasing time", table.where(i + 1, "time"))
-    step = float(np.median(dt))
-    gaps = np.flatnonzero(dt > MAX_GAP_STEPS * step)
+        what = "repeats" if dx[i] == 0 else "goes back"
+        raise InputError(f"{field} {what} ({x[i]:.9g} {unit}, then {x[i + 1]:.9g} {unit}): "
+                         f"rows must be in increasing {field}", table.where(i + 1, field))
+    step = float(np.median(dx))
+    gaps = np.flatnonzero(dx > MAX_GAP_STEPS * step)
     if gaps.size:
         i = int(gaps[0])
         raise InputError(
-            f"a gap of {dt[i]:.6g} s after {t[i]:.9g} s, where the record's step is "
-            f"{step:.6g} s ({1 / step:.6g} Hz; {gaps.size} gap{'s' if gaps.size > 1 else ''} "
-            "in all): a record must be continuous; evaluate its parts separately",
-            table.where(i + 1, "time"))
-    jitter = float(np.max(np.abs(dt - step)) / step)
+            f"a gap of {dx[i]:.6g} {unit} after {x[i]:.9g} {unit}, where the step is "
+            f"{step:.6g} {unit} ({gaps.size} gap{'s' if gaps.size > 1 else ''} in all): the "
+            "data must be continuous; take its parts separately", table.where(i + 1, field))
+    jitter = float(np.max(np.abs(dx - step)) / step)
     if jitter > MAX_JITTER:
-        i = int(np.argmax(np.abs(dt - step)))
-        raise InputError(f"the time step varies by {100 * jitter:.0f} % of the step "
-                         f"({dt[i]:.6g} s against {step:.6g} s): a record must be sampled at "
-                         "one rate", table.where(i + 1, "time"))
+        i = int(np.argmax(np.abs(dx - step)))
+        raise InputError(f"the step varies by {100 * jitter:.0f} % ({dx[i]:.6g} {unit} against "
+                         f"{step:.6g} {unit}): the data must be sampled at one spacing",
+                         table.where(i + 1, field))
+    return step, jitter
+
+
+def _rate_from_time(table: CsvTable, t: NDArray, warnings: list[str]) -> float:
+    _, jitter = regular_step(table, t, "time", "s")
     rate = (t.size - 1) / float(t[-1] - t[0])
     if jitter > 1e-3:
-        warnings.append(f"{os.path.basename(path)}: time steps vary by up to "
+        warnings.append(f"{os.path.basename(table.path)}: time steps vary by up to "
                         f"{100 * jitter:.2g} % of the step; taken as equally spaced at "
                         f"{rate:.6g} Hz (from the first and last time)")
     return rate
