@@ -156,6 +156,24 @@ class LinearModel:
         for b in self.assembly.bodies.values():
             if "z" in b.dofs:       # a vertical force at the cg loads the z DOF alone
                 out[starts[b.name] + b.dofs.index("z")] -= b.mass * g
+        if self.assembly.superelements:
+            out += self._superelement_gravity(g)
+        return out
+
+    def _superelement_gravity(self, g: float) -> np.ndarray:
+        """-g T^T M e_z of every superelement (builder.superelement)."""
+        from .superelement import dof_map, gravity_direction
+
+        offsets, pos = {}, 0
+        for b in self.assembly.bodies.values():
+            offsets[b.name] = (np.arange(pos, pos + len(b.dofs)),
+                               [DOF_NAMES.index(d) for d in b.dofs])
+            pos += len(b.dofs)
+        out = np.zeros(self.n)
+        for se in self.assembly.superelements.values():
+            T = dof_map(se, self.assembly.bodies, offsets, pos, self.n)
+            out -= g * (T.T @ (se.M @ gravity_direction(se)))
+            pos += len(se.interior)
         return out
 
     def static_response(self, g: float = GRAVITY) -> np.ndarray:
@@ -289,6 +307,7 @@ def assemble(assembly: Assembly) -> LinearModel:
             if roads else np.zeros((em.deflection.shape[0], 0)),
             em.stiffness, em.damping, em.loss_factor, em.components, em.units, n, nr)
 
+    _add_superelements(assembly, offsets, pos, n, M, mats)
     K = mats["K"].matrix(True)
     model_inputs = tuple(inputs)
     positions = np.array([assembly.road[r].at for r in assembly.road]).reshape(-1, 3)
@@ -301,6 +320,28 @@ def assemble(assembly: Assembly) -> LinearModel:
         Sh=sp.csr_array((0, n)), Dr=sp.csr_array((0, nr)), Dv=sp.csr_array((0, nr)),
         Dh=sp.csr_array((0, nr)), assembly=assembly, links=link_maps, name=assembly.name)
     return _with_sensors(base, assembly)
+
+
+def _add_superelements(assembly: Assembly, offsets: dict, start: int, n: int,
+                       M: _Triplets, mats: dict[str, _Triplets]) -> None:
+    """T^T X T of every superelement's matrices X (builder.superelement), its interior
+    coordinates numbered from ``start`` after the bodies' DOFs."""
+    from .superelement import dof_map
+
+    for se in assembly.superelements.values():
+        for p in se.points:
+            if p.body != "ground" and p.body not in assembly.bodies:
+                raise InputError(f'superelement "{se.name}": no body "{p.body}" to join at '
+                                 f"{list(p.at)}", se.where)
+        T = dof_map(se, assembly.bodies, offsets, start, n)
+        cols = np.flatnonzero(np.any(T != 0, axis=0))
+        Tc = T[:, cols]
+        M.add(cols, cols, Tc.T @ se.M @ Tc)
+        for key in ("K", "C", "H"):
+            X = getattr(se, key)
+            if X.any():
+                mats[key].add(cols, cols, Tc.T @ X @ Tc)
+        start += len(se.interior)
 
 
 @dataclass(frozen=True, eq=False)
