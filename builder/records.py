@@ -345,7 +345,8 @@ def _csv_record(path: str, rate_hz: float | None, rate_where: Where) -> Record:
         columns, data = columns[1:], data[:, 1:]
     elif rate is None:
         raise InputError(f'no time column (the first column is "{columns[0].name}"): name the '
-                         'first column "time" or give the sampling rate', rate_where)
+                         'first column "time", or give the sampling rate',
+                         table.where(None, columns[0].name))
     if not columns:
         raise InputError("no channel columns besides time", table.where(None, "header"))
     scales, units, kept, skipped = [], [], [], []

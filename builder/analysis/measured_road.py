@@ -12,6 +12,11 @@ solution through :func:`builder.analysis.transient.hold_step` is exact: the
 samples are those of ``scipy.signal.lsim`` with ``interp=True`` on the same
 state space.
 
+Loss-factor (hysteretic) damping has no time-domain form; here it enters as
+the viscous damping equivalent at each mode's own frequency
+(:func:`equivalent_viscous`, the damping ratios ``lumpgraph modes`` reports),
+so a model damped by loss factors alone is not left undamped.
+
 The model starts in static equilibrium on the profile's first elevations
 (``K q0 = Br r(0)``), and the first ``lead_s`` seconds (default 2 s) are left
 out of the figures, so the start does not count as a bump.
@@ -50,7 +55,7 @@ from .transient import (
 )
 
 __all__ = ["CHUNK", "LEAD_S", "profile_inputs", "stream_outputs", "profile_response",
-           "ProfileRide", "profile_ride"]
+           "ProfileRide", "profile_ride", "equivalent_viscous"]
 
 #: Samples per chunk of the streamed recurrence.
 CHUNK = 65536
@@ -166,6 +171,40 @@ def stream_outputs(A: NDArray, B: NDArray, C: NDArray, D: NDArray, dt: float, co
     return y, r_all
 
 
+def equivalent_viscous(model: Any) -> tuple[Any, str]:
+    """The model with its hysteretic (loss-factor) damping H replaced by viscous damping
+    equivalent at each mode's own frequency, and a note saying so ("" when H is zero).
+
+    With mass-normalised undamped modes ``Phi`` (``K Phi = M Phi Omega^2``), the modal
+    viscous damping ``Phi^T H Phi / omega_k`` (the loss factor's energy per cycle at
+    ``omega_k``, the damping :mod:`.modes` reports) gives ``C_eq = M Phi diag(...)
+    Phi^T M``; rigid-body modes add nothing. The road-side part ``Bh`` is left out.
+    """
+    import scipy.linalg
+    import scipy.sparse as sp
+
+    H = model.H.toarray() if hasattr(model.H, "toarray") else np.asarray(model.H)
+    if not np.any(H):
+        return model, ""
+    M = model.M.toarray()
+    w2, phi = scipy.linalg.eigh(model.K.toarray(), M)
+    scale = float(np.abs(w2).max()) if w2.size else 0.0
+    elastic = w2 > 1e-9 * scale
+    omega = np.sqrt(w2[elastic])
+    shapes = phi[:, elastic]
+    modal = np.einsum("ik,ij,jk->k", shapes, H, shapes) / omega
+    MP = M @ shapes
+    C_eq = MP @ (modal[:, None] * MP.T)
+    C = model.C.toarray() + 0.5 * (C_eq + C_eq.T)
+    zero = sp.csr_array(H.shape)
+    changed = model.with_matrices(C=sp.csr_array(C), H=zero,
+                                  Bh=sp.csr_array(model.Bh.shape),
+                                  Sh=sp.csr_array(model.Sh.shape),
+                                  Dh=sp.csr_array(model.Dh.shape))
+    return changed, ("the model's loss-factor damping enters as viscous damping equivalent at "
+                     "each mode's frequency (the damping ratios of lumpgraph modes)")
+
+
 def profile_response(model: Any, profile: Any, speed_m_s: float,
                      rate_hz: float = DEFAULT_RATE, *, lead_s: float = LEAD_S,
                      assembly: Any = None, sensors: Sequence[str] | None = None,
@@ -177,6 +216,7 @@ def profile_response(model: Any, profile: Any, speed_m_s: float,
     if not math.isfinite(rate) or rate <= 0:
         raise InputError(f"rate must be a positive frequency, not {rate_hz!r} Hz",
                          Where(field="--rate"))
+    model, note = equivalent_viscous(model)
     A, B, C, D, rows = state_space(model, sensors)
     ahead, side, count = _timing(model, profile, v, rate)
     lead = int(round(max(float(lead_s), 0.0) * rate))
@@ -198,8 +238,19 @@ def profile_response(model: Any, profile: Any, speed_m_s: float,
     t = np.arange(count - lead) * dt
     event = {"profile": str(profile.source), "length_m": profile.length_m,
              "step_m": profile.step_m, "lead_s": lead / rate}
-    return time_response(model, rows, t, r[lead:], y[lead:], assembly=assembly, speed_m_s=v,
+    resp = time_response(model, rows, t, r[lead:], y[lead:], assembly=assembly, speed_m_s=v,
                          event=event, description=f"measured profile {profile.source}")
+    notes = [note] if note else []
+    if v * dt > 2.0 * profile.step_m:
+        notes.append(f"one time step ({v * dt:.3g} m at {rate:g} Hz) spans "
+                     f"{v * dt / profile.step_m:.0f} profile samples: the road is a straight "
+                     "line over it, so wavelengths shorter than a few steps are smoothed out; "
+                     "sample faster")
+    if notes:
+        from dataclasses import replace
+
+        resp = replace(resp, notes=(*resp.notes, *notes))
+    return resp
 
 
 @dataclass(frozen=True, eq=False)
