@@ -157,6 +157,8 @@ class Assembly:
     source: str = ""
     warnings: tuple[str, ...] = ()
     replaced: dict[str, Any] = field(default_factory=dict)
+    #: detailed-model superelements (builder.superelement.Superelement) by name
+    superelements: dict[str, Any] = field(default_factory=dict)
 
     def replace(self, **changes: Any) -> Assembly:
         """A new Assembly with some fields changed."""
@@ -183,7 +185,8 @@ class Assembly:
     @property
     def dof_labels(self) -> tuple[str, ...]:
         """Every active DOF as ``BODY.DOF``, bodies in file order."""
-        return tuple(f"{b.name}.{d}" for b in self.bodies.values() for d in b.dofs)
+        bodies = tuple(f"{b.name}.{d}" for b in self.bodies.values() for d in b.dofs)
+        return bodies + tuple(q for se in self.superelements.values() for q in se.interior)
 
     def graph(self) -> nx.MultiGraph:
         """Bodies, ground and road points as nodes; links as edges (key = link name)."""

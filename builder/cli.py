@@ -25,6 +25,8 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "frf": ("builder.commands.frf", "frequency response from road inputs to sensors"),
     "ride": ("builder.commands.ride", "response to an ISO 8608 road at a speed, ISO 2631-1"),
     "bump": ("builder.commands.bump", "transient response to a bump, pothole or step"),
+    "evaluate": ("builder.commands.evaluate", "ISO 2631-1 evaluation of recorded acceleration"),
+    "export": ("builder.commands.export", "write the model's matrices, state space or modes"),
     "plugins": ("builder.commands.plugins", "list the installed plugins and their parameters"),
     "plugin": ("builder.commands.plugin", "run a plugin's own analyses on a file"),
     "render": ("builder.commands.render", "3D picture or animation of a mode, or a review sheet"),

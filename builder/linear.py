@@ -161,6 +161,24 @@ class LinearModel:
         for b in self.assembly.bodies.values():
             if "z" in b.dofs:       # a vertical force at the cg loads the z DOF alone
                 out[starts[b.name] + b.dofs.index("z")] -= b.mass * g
+        if self.assembly.superelements:
+            out += self._superelement_gravity(g)
+        return out
+
+    def _superelement_gravity(self, g: float) -> np.ndarray:
+        """-g T^T M e_z of every superelement (builder.superelement)."""
+        from .superelement import dof_map, gravity_direction
+
+        offsets, pos = {}, 0
+        for b in self.assembly.bodies.values():
+            offsets[b.name] = (np.arange(pos, pos + len(b.dofs)),
+                               [DOF_NAMES.index(d) for d in b.dofs])
+            pos += len(b.dofs)
+        out = np.zeros(self.n)
+        for se in self.assembly.superelements.values():
+            T = dof_map(se, self.assembly.bodies, offsets, pos, self.n)
+            out -= g * (T.T @ (se.M @ gravity_direction(se)))
+            pos += len(se.interior)
         return out
 
     def static_response(self, g: float = GRAVITY) -> np.ndarray:
@@ -279,6 +297,14 @@ class _Layout:
         return _Layout({b.name: i for i, b in enumerate(bodies)}, slots, cg,
                        {f"road.{r}": i for i, r in enumerate(assembly.road)}, pos)
 
+    def offsets(self) -> dict[str, tuple[np.ndarray, list[int]]]:
+        """Body name -> (its DOF columns, the indices 0..5 of the DOFs it has)."""
+        out = {}
+        for name, i in self.index.items():
+            sel = [d for d in range(6) if self.slots[i, d] >= 0]
+            out[name] = (self.slots[i, sel], sel)
+        return out
+
     def ends(self, ends: list[Any], points: np.ndarray) -> tuple[np.ndarray, np.ndarray,
                                                                   np.ndarray]:
         """For link ends and their points (L, 3): DOF columns (L, 6), the 6 x 6 maps
@@ -300,9 +326,8 @@ def _symmetric(A: sp.csr_array) -> sp.csr_array:
     return out
 
 
-def _mass_matrix(assembly: Assembly, layout: _Layout) -> sp.csr_array:
+def _mass_matrix(assembly: Assembly, layout: _Layout, n: int) -> sp.csr_array:
     bodies = list(assembly.bodies.values())
-    n = layout.n
     if not bodies:
         return sp.csr_array((n, n))
     blocks = np.zeros((len(bodies), 6, 6))
@@ -386,7 +411,7 @@ def _assemble(assembly: Assembly) -> LinearModel:
     """
     dofs = assembly.dof_labels
     layout = _Layout.of(assembly)
-    n, nr = layout.n, len(layout.inputs)
+    n, nr = len(dofs), len(layout.inputs)     # superelement interiors after the bodies
     groups: dict[str, list[Any]] = {}
     for link in assembly.links.values():
         if link.type not in LINK_TYPES:
@@ -404,7 +429,8 @@ def _assemble(assembly: Assembly) -> LinearModel:
     G, R = comps.maps()
     Gt = G.T.tocsr()
     weighted = {key: Gt @ sp.diags_array(comps.values(key)) for key in ("k", "c", "h")}
-    mats = {key: _symmetric(weighted[key] @ G + others.mats[key].matrix(True))
+    extra = _superelement_matrices(assembly, layout, n)
+    mats = {key: _symmetric(weighted[key] @ G + others.mats[key].matrix(True) + extra[key])
             for key in ("k", "c", "h")}
     bmat = {key: (-(weighted[key] @ R) + others.bmat[key].matrix()).tocsr()
             for key in ("k", "c", "h")}
@@ -413,7 +439,8 @@ def _assemble(assembly: Assembly) -> LinearModel:
     links = _LinkMaps(list(assembly.links), G, R, comps, others.link_maps, n, nr)
     positions = np.array([assembly.road[r].at for r in assembly.road]).reshape(-1, 3)
     base = LinearModel(
-        dofs=dofs, M=_mass_matrix(assembly, layout), C=mats["c"], K=mats["k"], H=mats["h"],
+        dofs=dofs, M=_symmetric(_mass_matrix(assembly, layout, n) + extra["m"]),
+        C=mats["c"], K=mats["k"], H=mats["h"],
         inputs=tuple(layout.inputs), input_positions=positions,
         Br=bmat["k"], Bv=bmat["c"], Bh=bmat["h"],
         sensors=(), sensor_units=(), sensor_measures=(),
@@ -520,6 +547,30 @@ def _dense_rows(A: sp.csr_array, start: int, m: int) -> tuple[np.ndarray, np.nda
     out = np.zeros((m, len(cols)))
     out[np.repeat(np.arange(m), counts), np.searchsorted(cols, idx)] = data
     return cols.astype(int), out
+
+
+def _superelement_matrices(assembly: Assembly, layout: _Layout, n: int
+                           ) -> dict[str, sp.csr_array]:
+    """T^T X T of every superelement's matrices X = M, K, C, H (builder.superelement),
+    keys m, k, c, h; its interior coordinates numbered after the bodies' DOFs."""
+    out = {key: sp.csr_array((n, n)) for key in ("m", "k", "c", "h")}
+    if not assembly.superelements:
+        return out
+    from .superelement import dof_map
+
+    offsets = layout.offsets()
+    start = layout.n
+    for se in assembly.superelements.values():
+        for p in se.points:
+            if p.body != "ground" and p.body not in assembly.bodies:
+                raise InputError(f'superelement "{se.name}": no body "{p.body}" to join at '
+                                 f"{list(p.at)}", se.where)
+        T = sp.csr_array(dof_map(se, assembly.bodies, offsets, start, n))
+        for key, X in (("m", se.M), ("k", se.K), ("c", se.C), ("h", se.H)):
+            if X.any():
+                out[key] = out[key] + T.T @ sp.csr_array(X) @ T
+        start += len(se.interior)
+    return out
 
 
 @dataclass(frozen=True, eq=False)

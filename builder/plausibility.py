@@ -188,9 +188,11 @@ def _masses(model: LinearModel) -> list[Finding]:
     out = []
     md = np.asarray(model.M.diagonal(), dtype=float)
     rotational = np.array([d.rsplit(".", 1)[-1] in ("rx", "ry", "rz") for d in model.dofs])
-    bodies = {b: model.assembly.bodies[b] for b in dict.fromkeys(
-        d.rsplit(".", 1)[0] for d in model.dofs)}
-    for kind, mask, unit in (("mass", ~rotational, "kg"), ("inertia", rotational, "kg m^2")):
+    bodies = model.assembly.bodies
+    # body DOFs only: a superelement's interior coordinates carry its own given matrices
+    on_body = np.array([d.rsplit(".", 1)[0] in bodies for d in model.dofs], dtype=bool)
+    for kind, mask, unit in (("mass", ~rotational & on_body, "kg"),
+                             ("inertia", rotational & on_body, "kg m^2")):
         if not mask.any():
             continue
         values = md[mask]

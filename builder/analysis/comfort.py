@@ -64,6 +64,7 @@ __all__ = [
     "weighting", "weighting_magnitude", "weighting_for_direction",
     "weighted_rms_from_psd", "weighted_time_history", "weighted_rms_from_time",
     "vdv", "estimated_vdv", "crest_factor", "vector_sum", "comfort_reactions", "evaluate_comfort",
+    "RUNNING_RMS_S", "running_rms", "mtvv", "filter_deviation", "weighted_at_rate",
 ]
 
 CAUTION = (
@@ -281,6 +282,16 @@ def _bilinear_sos(par: WeightingParameters, fs: float) -> NDArray:
     return np.array(rows)
 
 
+def filter_deviation(name: str, rate_hz: float, frequency_hz: float) -> float:
+    """Relative error of the sampled weighting filter (``method="iir"``) at a frequency:
+    ``|W_digital| / |W| - 1`` at ``rate_hz`` (scipy.signal.sosfreqz of the sections)."""
+    from scipy import signal
+
+    _, h = signal.sosfreqz(_bilinear_sos(_parameters(name), float(rate_hz)),
+                           worN=[float(frequency_hz)], fs=float(rate_hz))
+    return float(np.abs(h[0]) / weighting_magnitude(name, [frequency_hz])[0] - 1.0)
+
+
 def weighted_time_history(t: ArrayLike, a: ArrayLike, name: str,
                           method: str = "fft") -> NDArray[np.float64]:
     """Apply weighting ``name`` to acceleration ``a`` (m/s^2) sampled at times ``t`` (s).
@@ -310,11 +321,18 @@ def weighted_time_history(t: ArrayLike, a: ArrayLike, name: str,
         f = np.fft.rfftfreq(aa.size, dt)
         return np.fft.irfft(spectrum * _factors(par, 2j * math.pi * f), aa.size)
     if method == "iir":
-        from scipy import signal
-
-        return signal.sosfilt(_bilinear_sos(par, 1.0 / dt), aa)
+        return weighted_at_rate(aa, 1.0 / dt, name)
     raise InputError(f"unknown weighting method {method!r}: use fft or iir",
                      Where(field="method"))
+
+
+def weighted_at_rate(a: ArrayLike, rate_hz: float, name: str) -> NDArray[np.float64]:
+    """The causal weighting filter (``method="iir"`` of :func:`weighted_time_history`) on
+    samples ``a`` (m/s^2) taken at ``rate_hz`` (Hz), from rest."""
+    from scipy import signal
+
+    return signal.sosfilt(_bilinear_sos(_parameters(name), float(rate_hz)),
+                          np.asarray(a, dtype=float))
 
 
 def weighted_rms_from_time(t: ArrayLike, a: ArrayLike, name: str, method: str = "fft") -> float:
@@ -335,6 +353,44 @@ def vdv(t: ArrayLike, a: ArrayLike, name: str | None = None, method: str = "iir"
     aw = np.asarray(a, dtype=float) if name is None else weighted_time_history(tt, a, name, method)
     dt = _sample_interval(tt)
     return float(np.sum(aw**4) * dt) ** 0.25
+
+
+#: Integration time of the running RMS for the MTVV (ISO 2631-1 clause 6.3.1: 1 s).
+RUNNING_RMS_S = 1.0
+
+
+def running_rms(aw: ArrayLike, rate_hz: float,
+                integration_s: float = RUNNING_RMS_S) -> NDArray[np.float64]:
+    """Running RMS of a weighted acceleration (m/s^2) by linear integration.
+
+    ``a_w(t0) = sqrt(1/tau integral_(t0 - tau)^t0 a_w(t)^2 dt)`` (ISO 2631-1
+    clause 6.3.1, equation 6), ``tau = integration_s``, at every sample from
+    the first full window on: ``len(aw) - N + 1`` values for a window of
+    ``N = round(tau rate)`` samples (rectangle rule, as :func:`vdv`). Empty
+    when the record is shorter than one window.
+    """
+    x = np.asarray(aw, dtype=float)
+    window = int(round(float(integration_s) * float(rate_hz)))
+    if window < 1:
+        raise InputError(f"the running RMS window of {integration_s!r} s holds no sample at "
+                         f"{rate_hz!r} Hz", Where(field="rate"))
+    if x.size < window:
+        return np.zeros(0)
+    total = np.empty(x.size + 1)
+    total[0] = 0.0
+    np.cumsum(x * x, out=total[1:])
+    out = total[window:] - total[:-window]
+    del total
+    np.maximum(out, 0.0, out=out)
+    out /= window
+    return np.sqrt(out, out=out)
+
+
+def mtvv(aw: ArrayLike, rate_hz: float, integration_s: float = RUNNING_RMS_S) -> float:
+    """Maximum transient vibration value: the largest running RMS (m/s^2), ISO 2631-1
+    clause 6.3.1 (equation 7). NaN when the record is shorter than one window."""
+    r = running_rms(aw, rate_hz, integration_s)
+    return float(r.max()) if r.size else math.nan
 
 
 def estimated_vdv(aw: float, duration_s: float) -> float:

@@ -69,6 +69,7 @@ __all__ = [
     "DEFAULT_BAND", "DEFAULT_POINTS", "DEFAULT_RTOL", "ZETA_FLOOR", "SensorRide",
     "ComfortPoint", "RideResult", "ride_response",
     "road_frequency_response", "response_psd", "frequency_grid", "sensor_weighting",
+    "comfort_points",
 ]
 
 #: Default analysis band (Hz): that of the ISO 2631-1 comfort weightings.
@@ -276,6 +277,12 @@ def _comfort_points(sensors: dict[str, SensorRide], asm: Any) -> tuple[ComfortPo
         out.append(ComfortPoint(place, interface.name, axes, values, total, health,
                                 tuple(comfort.comfort_reactions(total)), k))
     return tuple(out)
+
+
+def comfort_points(sensors: dict[str, SensorRide], assembly: Any) -> tuple[ComfortPoint, ...]:
+    """The person sensors grouped by interface and place, one vector sum per group
+    (the figures of ``ride``; any source of weighted RMS per sensor may use it)."""
+    return _comfort_points(sensors, assembly)
 
 
 @dataclass(frozen=True, eq=False)

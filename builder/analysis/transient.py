@@ -59,8 +59,9 @@ points with ``y > 0``, ``y < 0`` and ``y = 0``, as in :mod:`.road`).
 Every sensor gets its peak ``max |y|``, extremes and RMS over the record;
 acceleration sensors also the ISO 2631-1 weighted history (the weighting of
 their direction, causal filter of :func:`builder.analysis.comfort.weighted_time_history`
-with ``method="iir"``), its RMS, crest factor and the vibration dose value
-``VDV = (integral a_w^4 dt)^(1/4)``. The bilinear weighting filter is within
+with ``method="iir"``), its RMS, crest factor, MTVV and the vibration dose value
+``VDV = (integral a_w^4 dt)^(1/4)``, by :func:`builder.analysis.evaluate.channel_figures`,
+the function that evaluates measured records. The bilinear weighting filter is within
 about 2 % of the analog one up to 80 Hz at 1 kHz, and 0.5 % at 2 kHz.
 
 Hysteretic (loss-factor) damping has no time-domain form and is left out
@@ -81,12 +82,14 @@ from numpy.typing import ArrayLike, NDArray
 from ..errors import InputError, Where
 from ..formatting import percent, text_table
 from . import comfort, road
+from .evaluate import channel_figures
 from .ride import sensor_weighting
 
 __all__ = [
     "SHAPES", "DEFAULT_RATE", "SETTLE_S", "MAX_SAMPLES", "RoadEvent", "TimeResponse",
     "road_event", "event_response", "default_duration", "road_history_response",
-    "random_road_response", "random_road_inputs",
+    "random_road_response", "random_road_inputs", "hold_step", "state_space",
+    "time_response",
 ]
 
 SHAPES = ("bump", "pothole", "step")
@@ -178,6 +181,13 @@ def _step_matrices(A: NDArray, B: NDArray, h: float, omega: float) -> tuple[NDAr
         gam[2] = E[:N, p:p + m]          # p(0) = I, q(0) = 0: p = cos
         gam[3] = -E[:N, q:q + m]         # p(0) = 0, q(0) = -I: p = sin
     return E[:N, :N], gam
+
+
+def hold_step(A: NDArray, B: NDArray, dt: float) -> tuple[NDArray, NDArray, NDArray]:
+    """``(e^{A dt}, Gamma0, Gamma1)`` of one step ``dt`` (s) of an input that is a
+    straight line on the step: ``x(dt) = e^{A dt} x(0) + Gamma0 u(0) + Gamma1 u'``."""
+    Phi, gam = _step_matrices(A, B, dt, 0.0)
+    return Phi, gam[0], gam[1]
 
 
 def _recurrence(A: NDArray, Phi: NDArray, g: NDArray, dt: float, Cout: NDArray,
@@ -348,6 +358,23 @@ def _state_space(model: Any, sensors: Sequence[str] | None) -> tuple[NDArray, ..
         raise InputError("the model has no sensors to report", Where(field="sensors"))
     A, B, C, D = model.to_state_space()
     return A, B, C[rows], D[rows], np.array(rows, dtype=int)
+
+
+def state_space(model: Any, sensors: Sequence[str] | None = None) -> tuple[NDArray, ...]:
+    """``(A, B, C, D, rows)`` of the model for time responses: the outputs of ``sensors``
+    (default all) and their rows in ``model.sensors``; errors for a model that has no
+    DOFs, road inputs or sensors."""
+    return _state_space(model, sensors)
+
+
+def time_response(model: Any, rows: NDArray, t: NDArray, r: NDArray, y: NDArray, *,
+                  assembly: Any = None, speed_m_s: float = math.nan,
+                  event: dict[str, Any] | None = None,
+                  description: str = "road history") -> TimeResponse:
+    """A :class:`TimeResponse` of sensor histories ``y`` (nt, len(rows)) at ``t`` (s) under
+    road displacements ``r`` (nt, nr), with its ISO 2631-1 and load figures."""
+    return _result(model, assembly, np.asarray(rows), t, r, y, speed_m_s, event or {},
+                   description, _notes(model))
 
 
 def _notes(model: Any) -> list[str]:
@@ -537,18 +564,21 @@ def _result(model: Any, assembly: Any, rows: NDArray, t: NDArray, r: NDArray, y:
     names = tuple(model.sensors[i] for i in rows)
     units = tuple(model.sensor_units[i] for i in rows)
     measures = tuple(model.sensor_measures[i] for i in rows)
-    weighting, weighted_rms, vdv, crest = {}, {}, {}, {}
+    weighting, weighted_rms, vdv, crest, mtvv = {}, {}, {}, {}, {}
     for k, (name, unit, measure) in enumerate(zip(names, units, measures, strict=True)):
         if measure != "acceleration":
             continue
         info = asm.sensors.get(name) if asm is not None else None
         w = sensor_weighting(info) if info is not None else (
             "We" if unit.startswith("rad") else "Wk")
-        aw = comfort.weighted_time_history(t, y[:, k], w, method="iir")
+        # the same figures as a measured record (builder.analysis.evaluate), from rest
+        figures, _ = channel_figures(y[:, k], 1.0 / float(t[1] - t[0]), w, name=name,
+                                     unit=unit, remove_mean=False)
         weighting[name] = w
-        weighted_rms[name] = float(np.sqrt(np.mean(aw**2)))
-        vdv[name] = comfort.vdv(t, aw)
-        crest[name] = comfort.crest_factor(aw)
+        weighted_rms[name] = figures.weighted_rms
+        vdv[name] = figures.vdv
+        crest[name] = figures.crest_factor
+        mtvv[name] = figures.mtvv
     static, least = _contact_loads(model, asm, rows, names, measures, y)
     if any(ratio < 0 for ratio in least.values()):
         lifted = ", ".join(n for n, ratio in least.items() if ratio < 0)
@@ -560,7 +590,7 @@ def _result(model: Any, assembly: Any, rows: NDArray, t: NDArray, r: NDArray, y:
         time_s=t, inputs=tuple(model.inputs), road_m=r, sensors=names, units=units,
         measures=measures, y=y, speed_m_s=float(v), event=dict(event),
         description=description, weighting=weighting, weighted_rms=weighted_rms, vdv=vdv,
-        crest_factor=crest, static=static, least_load_ratio=least,
+        crest_factor=crest, mtvv=mtvv, static=static, least_load_ratio=least,
         model_name=getattr(model, "name", ""), notes=tuple(notes))
 
 
@@ -621,6 +651,7 @@ class TimeResponse:
     weighted_rms: dict[str, float] = field(default_factory=dict)
     vdv: dict[str, float] = field(default_factory=dict)
     crest_factor: dict[str, float] = field(default_factory=dict)
+    mtvv: dict[str, float] = field(default_factory=dict)
     static: dict[str, float] = field(default_factory=dict)
     least_load_ratio: dict[str, float] = field(default_factory=dict)
     model_name: str = ""
@@ -670,7 +701,8 @@ class TimeResponse:
                 entry.update(weighting=self.weighting[name],
                              weighted_rms=self.weighted_rms[name], vdv=self.vdv[name],
                              vdv_unit=self._vdv_unit(name),
-                             crest_factor=self.crest_factor[name])
+                             crest_factor=self.crest_factor[name],
+                             mtvv=self.mtvv.get(name, math.nan))
             if name in self.static:
                 entry["static"] = self.static[name]
             if name in self.least_load_ratio:

@@ -33,6 +33,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
                         help="bump (half-sine, default), pothole (half-sine dip) or step (ramp)")
     parser.add_argument("--road", default=None, metavar="CLASS",
                         help="drive over a random ISO 8608 road of this class (A to H) instead")
+    parser.add_argument("--profile", default=None, metavar="ROAD.csv",
+                        help="drive over a measured road profile (distance, elevation or left "
+                        "and right) instead")
     parser.add_argument("--seed", default=None, metavar="N",
                         help="random seed of the --road realisation")
     parser.add_argument("--tracks", default="coherent", metavar="MODEL",
@@ -56,6 +59,46 @@ def _quantity(text: str, option: str, dimension: str) -> float:
         raise InputError(exc.reason, Where(field=option)) from None
 
 
+def _profile(args: argparse.Namespace, speed: float, rate: float,
+             duration: float | None) -> int:
+    """``bump --profile``: the exact response to a measured road, its time histories."""
+    from ..analysis.measured_road import profile_response
+    from ..analysis.profile_psd import profile_spectrum
+    from ..io import csv_text, output_path, write_atomic
+    from ..profiles import read_profile
+
+    for option, value in (("--road", args.road), ("--height", args.height),
+                          ("--length", args.length), ("--duration", duration),
+                          ("--seed", args.seed)):
+        if value is not None:
+            raise InputError("is not used with --profile (the profile sets the road and "
+                             "its length the duration)", Where(field=option))
+    if args.plot:
+        output_path(args.plot, (".png",), "--plot")
+    if args.csv:
+        output_path(args.csv, (".csv",), "--csv")
+    profile = read_profile(args.profile)
+    spectrum = profile_spectrum(profile)
+    assembly, model = load_model(args)
+    result = profile_response(model, profile, speed, rate, assembly=assembly)
+    if args.plot:
+        result.plot(args.plot)
+    if args.csv:
+        write_atomic(args.csv, csv_text(result.to_csv_rows()))
+    if args.json:
+        out = result.to_dict()
+        out["profile"] = spectrum.to_dict()
+        print_json(out)
+    else:
+        print(spectrum.describe())
+        print(result.table())
+        for what, path in (("time history plot", args.plot), ("time histories", args.csv)):
+            if path:
+                print(f"{what} written to {path}")
+    sys.stdout.flush()
+    return 0
+
+
 def run(args: argparse.Namespace) -> int:
     from ..analysis import road
     from ..analysis.transient import SHAPES, event_response, random_road_response, road_event
@@ -70,6 +113,8 @@ def run(args: argparse.Namespace) -> int:
     if not rate > 0:
         raise InputError(f"rate must be positive, not {rate:g} Hz", Where(field="--rate"))
     event = None
+    if args.profile is not None:
+        return _profile(args, speed, rate, duration)
     if args.road is None and args.shape not in SHAPES:
         raise InputError(f'unknown shape "{args.shape}": choose bump, pothole or step',
                          Where(field="--shape"))

@@ -19,8 +19,13 @@ HELP = "response to an ISO 8608 road at a speed, ISO 2631-1"
 
 def configure(parser: argparse.ArgumentParser) -> None:
     add_model_options(parser)
-    parser.add_argument("--road", required=True, metavar="CLASS",
+    parser.add_argument("--road", default=None, metavar="CLASS",
                         help="ISO 8608 road class A to H")
+    parser.add_argument("--profile", default=None, metavar="ROAD.csv",
+                        help="a measured road profile (distance, elevation or left and right) "
+                        "in place of a class: its PSD and class, and the exact response to it")
+    parser.add_argument("--rate", default="1000", metavar="HZ",
+                        help="--profile: sample rate of the response in Hz (default 1000)")
     parser.add_argument("--speed", required=True, metavar="V",
                         help='vehicle speed, e.g. "80 km/h" or 22.2 (m/s)')
     parser.add_argument("--waviness", default="2", metavar="W",
@@ -81,11 +86,51 @@ def _points(text: str | None) -> int:
     return value
 
 
+def _profile_run(args: argparse.Namespace) -> int:
+    """``ride --profile``: the measured road's class and the exact response to it."""
+    from ..analysis import road
+    from ..analysis.measured_road import profile_ride
+    from ..io import output_path
+    from ..profiles import read_profile
+
+    speed = road.check_speed(_number(args.speed, "--speed", "speed"))
+    rate = _number(args.rate, "--rate", "frequency")
+    if not rate > 0:
+        raise InputError(f"must be positive, got {args.rate}", Where(field="--rate"))
+    for option in ("--band", "--points", "--waviness", "--tracks"):
+        given = getattr(args, option[2:])
+        if given is not None and given != {"--waviness": "2", "--tracks": "coherent"}.get(option):
+            raise InputError("is for a class road; a measured profile brings its own",
+                             Where(field=option))
+    if args.plot:
+        output_path(args.plot, (".png",), "--plot")
+    profile = read_profile(args.profile)
+    assembly, model = load_model(args)
+    result = profile_ride(model, profile, speed, rate, assembly=assembly, sensors=args.sensor)
+    if args.plot:
+        result.plot(args.plot)
+    if args.json:
+        print_json(result.to_dict(psd=args.psd))
+    else:
+        print(result.table())
+        if args.plot:
+            print(f"profile PSD plot written to {args.plot}")
+    return 0
+
+
 def run(args: argparse.Namespace) -> int:
     from ..analysis import road
     from ..analysis.ride import ride_response
     from ..io import output_path
 
+    if args.profile is not None and args.road is not None:
+        raise InputError("give a road class or a measured profile, not both",
+                         Where(field="--profile"))
+    if args.profile is not None:
+        return _profile_run(args)
+    if args.road is None:
+        raise InputError("needed: an ISO 8608 class (A to H), or --profile ROAD.csv",
+                         Where(field="--road"))
     road.class_value(args.road)
     speed = road.check_speed(_number(args.speed, "--speed", "speed"))
     waviness = _number(args.waviness, "--waviness", "dimensionless")
