@@ -32,6 +32,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "render": ("builder.commands.render", "3D picture or animation of a mode, or a review sheet"),
     "report": ("builder.commands.report", "self-contained HTML review report"),
     "sweep": ("builder.commands.sweep", "sweeps, scatter and sensitivities of file parameters"),
+    "correlate": ("builder.commands.correlate",
+                  "hold the model's modes against measured modes: MAC, pairs, COMAC"),
+    "update": ("builder.commands.update",
+               "change file parameters within bounds to match measured modes"),
     "format": ("builder.commands.format", "print the description of the assembly file format"),
 }
 

@@ -446,15 +446,22 @@ def _any_table(table: Any) -> str:
     return f"<pre>{_e(table)}</pre>"
 
 
+def _correlation(model: Any, measured: Any, modes: Any, threshold: float | None) -> str:
+    from .report_correlation import correlation_section
+    return correlation_section(model, measured, modes, threshold)
+
+
 # ---------------------------------------------------------------- the page
 
 def report_html(assembly: Assembly, model: LinearModel, *, sheet: int = 12, road_class: str = "B",
-                speed_m_s: float = 80.0 / 3.6, modes: Any = None) -> str:
+                speed_m_s: float = 80.0 / 3.6, modes: Any = None, measured: Any = None,
+                threshold: float | None = None) -> str:
     """The report page as HTML text (images embedded).
 
     ``sheet`` is the number of modes on the review sheet; ``road_class`` and
     ``speed_m_s`` (m/s) set the ISO 8608 road of the ride section; ``modes``
-    the model's ModeSet if already computed.
+    the model's ModeSet if already computed; ``measured`` (measured modes or
+    their file) adds the correlation section, pairs with MAC >= ``threshold``.
     """
     from .analysis.modes import compute_modes
 
@@ -475,6 +482,8 @@ def report_html(assembly: Assembly, model: LinearModel, *, sheet: int = 12, road
         _section("Model checks", lambda: _checks(model)),
         _section("Modes", lambda: _modes(modes)),
         _section("Model ladder", lambda: _ladder(model)),
+        _section("Correlation with measured modes", lambda: _correlation(
+            model, measured, modes, threshold)) if measured is not None else "",
         _section("Review sheet", lambda: _sheet(assembly, model, modes, sheet)),
         _section("Frequency response from the road", lambda: _frf(model)),
         _section("Ride on a random road", lambda: _ride(model, road_class, speed_m_s)),

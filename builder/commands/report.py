@@ -3,7 +3,8 @@
 Writes ``DIR/report.html``: one self-contained page (images embedded) with
 the model summary and checks, modes, ladder, review sheet, road responses
 and ride figures (when the file has road points and sensors), and plugin
-tables. See :mod:`builder.report`.
+tables; with ``--measured TEST`` also the correlation with a modal test.
+See :mod:`builder.report`.
 """
 
 from __future__ import annotations
@@ -12,6 +13,7 @@ import argparse
 
 from ..errors import InputError, Where
 from ._common import add_model_options, load_model
+from ._measured import add_measured_option, parse_threshold
 
 HELP = "self-contained HTML review report"
 
@@ -26,6 +28,7 @@ def configure(parser: argparse.ArgumentParser) -> None:
                         help="ISO 8608 road class A..H for the ride section (default B)")
     parser.add_argument("--speed", default="80 km/h", metavar="V",
                         help='vehicle speed for the ride section (default "80 km/h"; bare: m/s)')
+    add_measured_option(parser, required=False)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -38,9 +41,15 @@ def run(args: argparse.Namespace) -> int:
     speed = to_si(args.speed, "speed", Where(field="--speed"))
     if not speed > 0:
         raise InputError(f"must be positive, got {args.speed}", Where(field="--speed"))
+    threshold = parse_threshold(args.threshold)
+    measured = None
+    if args.measured:
+        from ..measured_files import read_measured
+        measured = read_measured(args.measured)
     import_pyvista()
     assembly, model = load_model(args)
     path = write_report(assembly, model, args.out, sheet=args.sheet,
-                        road_class=args.road.strip().upper(), speed_m_s=float(speed))
+                        road_class=args.road.strip().upper(), speed_m_s=float(speed),
+                        measured=measured, threshold=threshold)
     print(f"wrote {path}")
     return 0
