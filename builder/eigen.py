@@ -263,9 +263,14 @@ def zero_frequency_modes(K, eigenvalues: np.ndarray, shapes: np.ndarray) -> np.n
     if candidates == 0:
         return out
     # Fine chains of stiff segments push the round-off level of their first elastic
-    # modes close to those modes: of the candidates, keep the lowest up to the last
-    # jump of JUMP between neighbours (round-off values lie many decades below).
+    # modes close to those modes, or above them: being under the level is not
+    # enough. Of the candidates, only the lowest up to the last jump of JUMP between
+    # neighbours are zero (round-off values lie many decades below the first
+    # elastic mode); candidates with no jump above them are real modes of a finely
+    # split model (a car on its tyres: 1.2 to 4.6 Hz at 5,000 segments), unless
+    # they are below ZERO_FLOOR.
     floor = np.maximum.accumulate(np.maximum(np.abs(lam[:candidates + 1]), ZERO_FLOOR * 1e-9))
     jumps = [k for k in range(1, min(candidates + 1, lam.size)) if lam[k] >= JUMP * floor[k - 1]]
-    out[:jumps[-1] if jumps else candidates] = True
+    out[:jumps[-1] if jumps else 0] = True
+    out[:candidates] |= lam[:candidates] <= ZERO_FLOOR
     return out
