@@ -5,11 +5,10 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+import pyuff
 
 from builder.errors import InputError
 from builder.measured_files import read_measured
-
-pyuff = pytest.importorskip("pyuff")
 
 NODES = [101, 102, 205]
 XYZ = np.array([[-400.0, 600.0, 500.0], [-400.0, -600.0, 500.0], [300.0, 0.0, 650.0]])  # mm

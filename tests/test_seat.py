@@ -255,7 +255,6 @@ def test_occupant_response_result():
 
 
 def test_occupant_plot_writes_png(tmp_path):
-    pytest.importorskip("matplotlib")
     path = tmp_path / "occupant.png"
     occupant_response("boileau_rakheja_1998").plot(str(path))
     assert path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
