@@ -49,6 +49,7 @@ from .transient import (
     DEFAULT_RATE,
     MAX_SAMPLES,
     TimeResponse,
+    equivalent_viscous,
     hold_step,
     state_space,
     time_response,
@@ -169,40 +170,6 @@ def stream_outputs(A: NDArray, B: NDArray, C: NDArray, D: NDArray, dt: float, co
             y[start:stop] = states @ C.T + u @ D.T
         r_all[start:stop] = r
     return y, r_all
-
-
-def equivalent_viscous(model: Any) -> tuple[Any, str]:
-    """The model with its hysteretic (loss-factor) damping H replaced by viscous damping
-    equivalent at each mode's own frequency, and a note saying so ("" when H is zero).
-
-    With mass-normalised undamped modes ``Phi`` (``K Phi = M Phi Omega^2``), the modal
-    viscous damping ``Phi^T H Phi / omega_k`` (the loss factor's energy per cycle at
-    ``omega_k``, the damping :mod:`.modes` reports) gives ``C_eq = M Phi diag(...)
-    Phi^T M``; rigid-body modes add nothing. The road-side part ``Bh`` is left out.
-    """
-    import scipy.linalg
-    import scipy.sparse as sp
-
-    H = model.H.toarray() if hasattr(model.H, "toarray") else np.asarray(model.H)
-    if not np.any(H):
-        return model, ""
-    M = model.M.toarray()
-    w2, phi = scipy.linalg.eigh(model.K.toarray(), M)
-    scale = float(np.abs(w2).max()) if w2.size else 0.0
-    elastic = w2 > 1e-9 * scale
-    omega = np.sqrt(w2[elastic])
-    shapes = phi[:, elastic]
-    modal = np.einsum("ik,ij,jk->k", shapes, H, shapes) / omega
-    MP = M @ shapes
-    C_eq = MP @ (modal[:, None] * MP.T)
-    C = model.C.toarray() + 0.5 * (C_eq + C_eq.T)
-    zero = sp.csr_array(H.shape)
-    changed = model.with_matrices(C=sp.csr_array(C), H=zero,
-                                  Bh=sp.csr_array(model.Bh.shape),
-                                  Sh=sp.csr_array(model.Sh.shape),
-                                  Dh=sp.csr_array(model.Dh.shape))
-    return changed, ("the model's loss-factor damping enters as viscous damping equivalent at "
-                     "each mode's frequency (the damping ratios of lumpgraph modes)")
 
 
 def profile_response(model: Any, profile: Any, speed_m_s: float,
