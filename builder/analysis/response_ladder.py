@@ -40,7 +40,7 @@ from ..errors import InputError, Where
 from ..formatting import count, number, percent, text_table
 from ..linear import LinearModel
 
-__all__ = ["Question", "DepthFigures", "ResponseLadder", "response_figures",
+__all__ = ["Question", "DepthFigures", "ResponseLadder", "response_figures", "Judge", "Candidate",
            "response_ladder", "expanded_sensors", "depth_yaml", "DEFAULT_TOLERANCE"]
 
 #: Tolerance used when figures are asked for without one (5 %, the usual
@@ -240,10 +240,11 @@ class ResponseLadder:
             else:
                 lines.append(f"recommended: none of these depths is within {percent(tol, 1)} "
                              "for every figure; use the full model")
-        expanded = [d for d in self.depths if d.expanded]
+        expanded = [d for d in shown if d.expanded]
         if expanded:
             lines += ["", "sensors on condensed or tied DOFs, read through the depth's "
-                      "expansion (the condensed DOFs following the kept ones statically):"]
+                      "expansion (the condensed DOFs following the kept ones statically, plus the "
+                      "depth's fixed-interface modes where it has them):"]
             lines += [f"  {d.name}: {', '.join(d.expanded)}" for d in expanded]
         lines += [f"note: {n}" for n in self.notes]
         return "\n".join(lines)
@@ -414,20 +415,28 @@ def _figure_sensors(question: Question, model: LinearModel) -> list[str]:
     return list(dict.fromkeys(names + [s for _, s in question.frf]))
 
 
-def depth_yaml(depth: Depth) -> str:
+def depth_yaml(depth: Depth, body_dofs: dict[str, Sequence[str]] | None = None) -> str:
     """A depth as one entry of a ``depths:`` section (indented two spaces), which loads
-    back to the same depth."""
+    back to the same depth. With ``body_dofs`` (body -> its DOF names) a body whose
+    every DOF is kept is written ``BODY.*``."""
     import json
 
     def seq(items: Sequence[str]) -> str:
-        return "[" + ", ".join(json.dumps(x) if not _plain(x) else x for x in items) + "]"
+        return "[" + ", ".join(x if _plain(x) else json.dumps(x) for x in items) + "]"
 
-    parts = [f"keep: {seq(depth.keep)}"]
+    keep = list(depth.keep)
+    for body, dofs in (body_dofs or {}).items():
+        labels = [f"{body}.{d}" for d in dofs]
+        if len(labels) > 1 and all(x in keep for x in labels):
+            at = keep.index(labels[0])
+            keep = [x for x in keep if x not in labels]
+            keep.insert(at, f"{body}.*")
+    parts = [f"keep: {seq(keep)}"]
     if depth.tie:
         parts.append("tie: [" + ", ".join(seq(g) for g in depth.tie) + "]")
-    modes = getattr(depth, "modes", ()) or ()
-    if modes:
-        parts.append("modes: {" + ", ".join(f"{json.dumps(p)}: {n}" for p, n in modes) + "}")
+    if depth.modes:
+        parts.append("modes: {" + ", ".join(f"{json.dumps(p)}: {n}" for p, n in depth.modes)
+                     + "}")
     body = "\n".join(f"    {p}" for p in parts)
     return f"  {depth.name}:\n{body}"
 
@@ -476,68 +485,76 @@ class Candidate:
     extra: dict[str, Any] = field(default_factory=dict)
 
 
+class Judge:
+    """The full model's figures, computed once; :meth:`judge` one depth against them."""
+
+    def __init__(self, model: LinearModel, question: Question,
+                 tolerance: float | None = DEFAULT_TOLERANCE,
+                 reducer: Callable[[LinearModel, Depth], LinearModel] | None = None,
+                 progress: Callable[[str], None] | None = None):
+        from ..reduce import reduce_to_depth
+
+        if not question.asked:
+            raise InputError("give at least one response: --ride, --bump or --frf",
+                             Where(field="ladder"))
+        self.model = model.parent if model.parent is not None else model
+        self.question = question
+        self.tolerance = tolerance
+        self.reducer = reducer or reduce_to_depth
+        self.say = progress or (lambda _text: None)
+        self.notes: list[str] = []
+        self.say(f"full model ({count(self.model.n, 'DOF')})")
+        self.full = response_figures(self.model, question)
+        self.sensors = _figure_sensors(question, self.model)
+
+    def judge(self, cand: Candidate) -> DepthFigures | None:
+        """One depth's figures and errors; None (with a note) for a proposed depth that
+        cannot be reduced or has no response (a file's depth raises instead)."""
+        depth = cand.depth
+        try:
+            reduced = self.reducer(self.model, depth)
+            self.say(f"{depth.name} ({count(reduced.n, 'DOF')})")
+            figures = response_figures(reduced, self.question, ride_grid=self.full.ride_grid)
+        except InputError as err:
+            if cand.source == "file":
+                raise
+            self.notes.append(f"candidate {depth.name} left out: {err.reason}")
+            return None
+        return _judge(depth.name, reduced, figures, self.full, self.tolerance, self.sensors,
+                      cand.source, cand.entry, cand.description)
+
+    def result(self, depths: Sequence[DepthFigures], search: bool = False,
+               notes: Sequence[str] = ()) -> ResponseLadder:
+        """The ladder of the judged depths, with the verdict."""
+        notes = [*self.notes, *notes]
+        tol = self.tolerance
+        if search and tol is not None and not any(d.within for d in depths):
+            notes.append(f"no candidate is within {percent(tol, 1)}: the full model is "
+                         "needed for this question")
+        recommended, simplest = _verdict(depths, list(self.full.values), tol)
+        return ResponseLadder(getattr(self.model, "name", ""), self.model.n, self.question,
+                              self.full.values, self.full.units, tuple(depths), tol,
+                              recommended, simplest, tuple(notes), search)
+
+
 def response_ladder(model: LinearModel, question: Question,
                     depths: dict[str, Depth] | Sequence[Candidate] | None = None, *,
-                    tolerance: float | None = DEFAULT_TOLERANCE, search: bool = False,
+                    tolerance: float | None = DEFAULT_TOLERANCE,
                     reducer: Callable[[LinearModel, Depth], LinearModel] | None = None,
                     progress: Callable[[str], None] | None = None) -> ResponseLadder:
     """Judge depths on the response figures of ``question`` against the full model.
 
     ``depths``: the file's (default), a mapping, or :class:`Candidate` s.
-    ``tolerance``: relative (0.05 is 5 %), None for errors only. ``search``:
-    judge the candidates in the order given and stop at the first within the
-    tolerance (``--propose``). A depth that cannot be condensed (a
-    mechanism) is left out with a note.
+    ``tolerance``: relative (0.05 is 5 %), None for errors only.
     """
-    from ..reduce import reduce_to_depth
-
-    if not question.asked:
-        raise InputError("give at least one response: --ride, --bump or --frf",
-                         Where(field="ladder"))
-    if model.parent is not None:
-        model = model.parent
-    reducer = reducer or reduce_to_depth
+    full = model.parent if model.parent is not None else model
     if depths is None:
-        depths = (model.assembly.depths if model.assembly is not None else {}) or {}
-    if isinstance(depths, dict):
-        candidates = [Candidate(d) for d in depths.values()]
-    else:
-        candidates = list(depths)
+        depths = (full.assembly.depths if full.assembly is not None else {}) or {}
+    candidates = ([Candidate(d) for d in depths.values()] if isinstance(depths, dict)
+                  else list(depths))
     if not candidates:
         raise InputError("the file has no depths to judge: add a depths: section, or use "
                          "--propose", Where(field="depths"))
-    say = progress or (lambda _text: None)
-    say(f"full model ({count(model.n, 'DOF')})")
-    full = response_figures(model, question)
-    sensors = _figure_sensors(question, model)
-    out: list[DepthFigures] = []
-    notes: list[str] = []
-    for cand in candidates:
-        depth = cand.depth
-        try:
-            reduced = reducer(model, depth)
-        except InputError as err:
-            if cand.source == "file":
-                raise
-            notes.append(f"candidate {depth.name} left out: {err.reason}")
-            continue
-        say(f"{depth.name} ({count(reduced.n, 'DOF')})")
-        try:
-            figures = response_figures(reduced, question, ride_grid=full.ride_grid)
-        except InputError as err:
-            if cand.source == "file":
-                raise
-            notes.append(f"candidate {depth.name} left out: {err.reason}")
-            continue
-        judged = _judge(depth.name, reduced, figures, full, tolerance, sensors, cand.source,
-                        cand.entry, cand.description)
-        out.append(judged)
-        if search and judged.within:
-            break
-    if search and tolerance is not None and not any(d.within for d in out):
-        notes.append(f"no candidate is within {percent(tolerance, 1)}: the full model is "
-                     "needed for this question")
-    recommended, simplest = _verdict(out, list(full.values), tolerance)
-    return ResponseLadder(getattr(model, "name", ""), model.n, question, full.values,
-                          full.units, tuple(out), tolerance, recommended, simplest,
-                          tuple(notes), search)
+    judge = Judge(full, question, tolerance, reducer, progress)
+    judged = [j for j in (judge.judge(c) for c in candidates) if j is not None]
+    return judge.result(judged)
