@@ -319,8 +319,9 @@ def search_depths(model: LinearModel, question: Question, tolerance: float, *,
                     judged.append(result)
         return seen[state]
 
-    def step(state: tuple[int, ...], g: int) -> tuple[int, ...] | None:
-        for i in range(state[g] + 1, len(options[g])):
+    def step(state: tuple[int, ...], g: int, up: bool = True) -> tuple[int, ...] | None:
+        levels = range(state[g] + 1, len(options[g])) if up else range(state[g] - 1, -1, -1)
+        for i in levels:
             nxt = state[:g] + (i,) + state[g + 1:]
             if _candidate([lv[k] for lv, k in zip(options, nxt, strict=True)], total):
                 return nxt
@@ -335,8 +336,9 @@ def search_depths(model: LinearModel, question: Question, tolerance: float, *,
         tried = [(s, d) for s, d in tried if d is not None]
         if not tried:
             break
-        inside = [d for _, d in tried if d.within]
+        inside = [(s, d) for s, d in tried if d.within]
         if inside:
+            state, current = min(inside, key=lambda t: (len(t[1].dofs), abs(t[1].worst[1])))
             break
         base = _excess(current, tolerance) if current is not None else math.inf
         n0 = len(current.dofs) if current is not None else 0
@@ -344,6 +346,20 @@ def search_depths(model: LinearModel, question: Question, tolerance: float, *,
         gains = [((base - _excess(d, tolerance)) / max(len(d.dofs) - n0, 1), -len(d.dofs))
                  for _, d in tried]
         state, current = tried[gains.index(max(gains))]
+    first = current.name if current is not None and current.within else None
+    while current is not None and current.within:
+        # the way up may have refined a group more than the answer needs: step
+        # each group down while the depth stays within
+        downs = [s for s in (step(state, g, up=False) for g in range(len(options)))
+                 if s is not None]
+        tried = [(s, evaluate(s)) for s in downs]
+        inside = [(s, d) for s, d in tried if d is not None and d.within]
+        if not inside:
+            break
+        state, current = min(inside, key=lambda t: (len(t[1].dofs), abs(t[1].worst[1])))
+    if first is not None and current is not None and current.name != first:
+        notes.append(f"the first depth within on the way up was {first}; stepping its groups "
+                     f"down while within gave {current.name}")
     if len(seen) > limit:
         notes.append(f"the search stopped after {limit} candidate depths")
     judged.sort(key=lambda d: (len(d.dofs), d.source != "file"))
