@@ -24,7 +24,8 @@ other combinations describe no symmetric motion). The combinations grow
 quickly (hundreds for a car with a seat and a flexible body), so
 :func:`search_depths` walks up from the smallest, one group one level at a
 time, judging each step, and stops at the first depth within the
-tolerance; at most :data:`MAX_CANDIDATES` are judged.
+tolerance, then steps groups back down while the depth stays within; at
+most :data:`MAX_CANDIDATES` are judged.
 """
 
 from __future__ import annotations
