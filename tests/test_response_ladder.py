@@ -180,3 +180,29 @@ def test_ladder_command_refuses_bad_options_in_one_line(run_cli, args, field):
     code, out, err = run_cli("ladder", SYMMETRIC, *args)
     assert code == 2 and "Traceback" not in err
     assert len(err.strip().splitlines()) == 1 and field in err
+
+
+def test_a_depth_that_loses_all_its_damping_is_left_out_with_a_note(write_yaml):
+    # analytic: the only damper joins the two masses; Guyan onto the lower one
+    # makes the upper follow it rigidly (x2 = x1), so the damper never works
+    # and the depth's mode sqrt(k1 / (m1 + m2)) is undamped: no RMS exists
+    path = write_yaml("""
+format: 1
+name: damper inside (invented data)
+motion: bounce
+bodies:
+  base: {mass: 100 kg, cg: [0, 0, 0.3]}
+  top: {mass: 50 kg, cg: [0, 0, 0.6]}
+road:
+  p: {at: [0, 0, 0]}
+links:
+  support: {type: spring, a: base, b: road.p, axis: z, stiffness: 100 kN/m}
+  joint: {type: spring, a: top, b: base, axis: z, stiffness: 40 kN/m, damping: 900 N s/m}
+sensors:
+  base_acc: {body: base, measure: acceleration, direction: z}
+depths:
+  condensed: {keep: [base.z]}
+""")
+    lad = _ladder(path, Question(ride=("C", V, "coherent", (0.5, 80.0))))
+    assert lad.depths == () and lad.recommended is None
+    assert any("condensed left out" in n and "infinite" in n for n in lad.notes)

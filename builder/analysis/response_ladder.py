@@ -508,17 +508,24 @@ class Judge:
         self.sensors = _figure_sensors(question, self.model)
 
     def judge(self, cand: Candidate) -> DepthFigures | None:
-        """One depth's figures and errors; None (with a note) for a proposed depth that
-        cannot be reduced or has no response (a file's depth raises instead)."""
+        """One depth's figures and errors; None (with a note) for a depth whose response
+        has no figures (e.g. an undamped mode the depth leaves) or a proposed depth that
+        cannot be reduced (a file's depth that cannot be reduced raises)."""
         depth = cand.depth
         try:
             reduced = self.reducer(self.model, depth)
-            self.say(f"{depth.name} ({count(reduced.n, 'DOF')})")
-            figures = response_figures(reduced, self.question, ride_grid=self.full.ride_grid)
         except InputError as err:
             if cand.source == "file":
                 raise
             self.notes.append(f"candidate {depth.name} left out: {err.reason}")
+            return None
+        self.say(f"{depth.name} ({count(reduced.n, 'DOF')})")
+        try:
+            figures = response_figures(reduced, self.question, ride_grid=self.full.ride_grid)
+        except InputError as err:
+            what = "depth" if cand.source == "file" else "candidate"
+            self.notes.append(f"{what} {depth.name} left out: its response has no figures "
+                              f"({err.reason})")
             return None
         return _judge(depth.name, reduced, figures, self.full, self.tolerance, self.sensors,
                       cand.source, cand.entry, cand.description)
