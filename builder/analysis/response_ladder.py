@@ -250,31 +250,40 @@ class ResponseLadder:
         return "\n".join(lines)
 
     def plot(self, path: str | None = None) -> Any:
-        """|error| against DOF count, one line per figure, the tolerance drawn.
+        """|error| against DOF count: one marker per depth and figure (a colour per
+        figure), the worst figure of the best depth of each size as a line, the
+        tolerance and the recommended depth drawn.
 
         Returns the matplotlib figure; writes a PNG to ``path`` when given.
         """
+        from matplotlib.ticker import MaxNLocator
+
         from .. import plots
 
         fig, axes = plots.figure(1, height=4.2)
         ax = axes[0]
-        order = sorted(self.depths, key=lambda d: len(d.dofs))
-        n = [len(d.dofs) for d in order]
         floor = 1e-6
         for k, key in enumerate(self.full):
-            e = [max(abs(d.errors[key]), floor) for d in order]
-            ax.semilogy(n, e, marker="o", linewidth=1.0, label=key, color=f"C{k % 10}")
+            ax.semilogy([len(d.dofs) for d in self.depths],
+                        [max(abs(d.errors[key]), floor) for d in self.depths], "o",
+                        markersize=4, alpha=0.75, label=key, color=f"C{k % 10}")
+        best: dict[int, float] = {}
+        for d in self.depths:
+            worst = max(abs(d.worst[1]), floor)
+            best[len(d.dofs)] = min(best.get(len(d.dofs), math.inf), worst)
+        if best:
+            sizes = sorted(best)
+            ax.semilogy(sizes, [best[n] for n in sizes], color="k", linewidth=1.2,
+                        label="worst figure, best depth of each size")
         if self.tolerance is not None:
             ax.axhline(self.tolerance, color="k", linestyle="--", linewidth=1.0,
                        label=f"tolerance {percent(self.tolerance, 1)}")
-        for d, x in zip(order, n, strict=True):
-            ax.annotate(d.name, (x, floor), textcoords="offset points", xytext=(2, 4),
-                        fontsize=7, rotation=90)
-        plots.style(ax, xlabel="DOFs of the depth", ylabel="|error| against the full model")
         if self.recommended is not None:
             rec = self.depth(self.recommended)
-            ax.axvline(len(rec.dofs), color="tab:green", alpha=0.4, linewidth=4,
+            ax.axvline(len(rec.dofs), color="tab:green", alpha=0.35, linewidth=6,
                        label=f"recommended: {rec.name}")
+        ax.xaxis.set_major_locator(MaxNLocator(integer=True))
+        plots.style(ax, xlabel="DOFs of the depth", ylabel="|error| against the full model")
         ax.legend(fontsize=7, loc="best")
         plots.finish(fig, f"{self.model_name}: depths judged on responses")
         if path is not None:
