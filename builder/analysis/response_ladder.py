@@ -111,6 +111,7 @@ class _Figures:
     values: dict[str, float]
     units: dict[str, str]
     ride_grid: np.ndarray | None = None
+    edges: tuple[str, ...] = ()         # FRF peaks found at a band edge
 
 
 @dataclass(frozen=True, eq=False)
@@ -352,6 +353,7 @@ def response_figures(model: LinearModel, question: Question, *,
     units: dict[str, str] = {}
     names = _sensor_names(model, question)
     grid = None
+    edges = []
     if question.ride is not None:
         from .ride import ride_response
 
@@ -384,7 +386,9 @@ def response_figures(model: LinearModel, question: Question, *,
             "N m" if source.rsplit(".", 1)[-1] in ("rx", "ry", "rz") else "N")
         values[f"{key}.frf_peak"], units[f"{key}.frf_peak"] = peak, f"{unit} per {per}"
         values[f"{key}.frf_peak_hz"], units[f"{key}.frf_peak_hz"] = at, "Hz"
-    return _Figures(values, units, grid)
+        if min(abs(at - question.frf_band[0]), abs(at - question.frf_band[1])) <= 1e-9 * at:
+            edges.append(key)
+    return _Figures(values, units, grid, tuple(edges))
 
 
 def _errors(values: dict[str, float], full: dict[str, float],
@@ -515,6 +519,7 @@ class Judge:
         self.say(f"full model ({count(self.model.n, 'DOF')})")
         self.full = response_figures(self.model, question)
         self.sensors = _figure_sensors(question, self.model)
+        self._edge(self.full, "the full model")
 
     def judge(self, cand: Candidate) -> DepthFigures | None:
         """One depth's figures and errors; None (with a note) for a depth whose response
@@ -536,8 +541,17 @@ class Judge:
             self.notes.append(f"{what} {depth.name} left out: its response has no figures "
                               f"({err.reason})")
             return None
+        self._edge(figures, depth.name)
         return _judge(depth.name, reduced, figures, self.full, self.tolerance, self.sensors,
                       cand.source, cand.entry, cand.description)
+
+    def _edge(self, figures: _Figures, who: str) -> None:
+        if figures.edges:
+            band = self.question.frf_band
+            self.notes.append(f"{who}: the FRF {', '.join(figures.edges)} is largest at an "
+                              f"edge of the band {band[0]:g} to {band[1]:g} Hz (still rising "
+                              "there): its peak and peak frequency are the band's, not a "
+                              "resonance's")
 
     def result(self, depths: Sequence[DepthFigures], search: bool = False,
                notes: Sequence[str] = ()) -> ResponseLadder:
