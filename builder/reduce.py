@@ -134,7 +134,8 @@ def modal_name(pattern: str, k: int) -> str:
 
 
 def component_modes(model: LinearModel, masters: Sequence[str],
-                    modes: Sequence[tuple[str, int]]) -> LinearModel:
+                    modes: Sequence[tuple[str, int]], where: Where | None = None
+                    ) -> LinearModel:
     """Craig-Bampton depth: Guyan condensation onto ``masters`` plus, for each
     (pattern, count), the ``count`` lowest fixed-interface modes of the condensed
     DOFs matching the pattern (every other DOF held), as extra coordinates
@@ -146,6 +147,7 @@ def component_modes(model: LinearModel, masters: Sequence[str],
     """
     from .eigen import lowest_modes
 
+    at = (where or Where()).child("modes")
     basis = _static_basis(model, masters)
     if basis is None:
         return model
@@ -158,10 +160,10 @@ def component_modes(model: LinearModel, masters: Sequence[str],
                           if fnmatch.fnmatchcase(d, pattern) and i not in used], dtype=int)
         if inner.size == 0:
             raise InputError(f'"{pattern}" matches no condensed DOF: its modes would be '
-                             "empty", Where(field="modes"))
+                             "empty", at)
         if count > inner.size:
             raise InputError(f'"{pattern}" asks for {count} modes of {inner.size} condensed '
-                             "DOFs", Where(field="modes"))
+                             "DOFs", at)
         used.update(inner.tolist())
         _, phi = lowest_modes(K[inner][:, inner], M[inner][:, inner], count)
         block = np.zeros((model.n, count))
@@ -170,7 +172,7 @@ def component_modes(model: LinearModel, masters: Sequence[str],
         names += [modal_name(pattern, k + 1) for k in range(count)]
     if len(set(names)) != len(names):
         raise InputError("two modes: patterns give the same coordinate names; name the "
-                         "bodies apart", Where(field="modes"))
+                         "bodies apart", at)
     return transform(model, sp.csr_array(np.hstack(columns)), sp.csr_array(G), names)
 
 
@@ -212,7 +214,8 @@ def reduce_to_depth(model: LinearModel, depth: Depth) -> LinearModel:
     masters: list[str] = []
     for pattern in depth.keep:
         masters.extend(d for d in match_dofs(pattern, tied.dofs) if d not in masters)
-    out = component_modes(tied, masters, depth.modes) if depth.modes else guyan(tied, masters)
+    out = (component_modes(tied, masters, depth.modes, depth.where) if depth.modes
+           else guyan(tied, masters))
     return out.with_matrices(name=f"{model.name} [{depth.name}]")
 
 

@@ -58,6 +58,8 @@ def test_every_fixed_interface_mode_gives_the_full_model_exactly():
     ('{keep: [body_s06.z], modes: {"body_s*.*": 0}}', "between 1 and"),
     ('{keep: [body_s06.z], modes: {"nobody.*": 2}}', "nobody"),
     ('{keep: [body_s06.z], modes: [2]}', "mapping"),
+    ('{keep: ["body_s06.*", "wheel_*.z"], modes: {"wheel_*.*": 2}}', "of 0 condensed DOFs"),
+    ('{keep: [body_s06.z], modes: {"engine.*": 7}}', "of 6 condensed DOFs"),
 ])
 def test_bad_modes_are_refused_at_their_line(entry, message, tmp_path, run_cli):
     path = tmp_path / "car.yaml"
