@@ -9,8 +9,9 @@ nothing kept to everything kept:
 
 - the vehicle body: bounce; bounce and pitch; bounce and roll; bounce, roll
   and pitch; all its DOFs (a split body: those of the segment nearest its
-  cg), then (a split body) that segment with 2, 4, 8 ... fixed-interface
-  modes of the other segments (Craig-Bampton), then every segment;
+  cg), then (a split body) that segment with 2, 4, 8 ... (at most
+  :data:`MAX_MODES`) fixed-interface modes of the other segments
+  (Craig-Bampton), then every segment;
 - the bodies on the road: condensed; left and right tied (a half car in
   side view: mirrored bodies move alike in x, z and pitch, the antisymmetric
   DOFs condensed); front and rear tied on each side (a half car in front
@@ -47,7 +48,7 @@ from .labels import _plugin_of, _plugin_uses, vehicle_body
 from .response_ladder import Candidate, DepthFigures, Judge, Question, ResponseLadder, depth_yaml
 
 __all__ = ["BodyGroup", "Level", "body_groups", "group_levels", "candidate_depths",
-           "search_depths", "MAX_CANDIDATES"]
+           "search_depths", "MAX_CANDIDATES", "MAX_MODES"]
 
 #: Most candidates judged by one search (each costs one response run).
 MAX_CANDIDATES = 60
@@ -128,9 +129,13 @@ def _pattern(assembly: Assembly, bodies: Sequence[str]) -> str | None:
     return pattern if hits == set(bodies) else None
 
 
+#: Most fixed-interface modes a proposed level keeps (a body needing more is kept whole).
+MAX_MODES = 128
+
+
 def _counts(limit: int, start: int) -> list[int]:
     out, n = [], start
-    while n < limit:
+    while n < min(limit, MAX_MODES + 1):
         out.append(n)
         n *= 2
     return out
