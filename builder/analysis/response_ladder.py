@@ -236,6 +236,9 @@ class ResponseLadder:
                 lines.append(f"recommended: {rec.name} ({count(len(rec.dofs), 'DOF')}), the "
                              f"simplest depth within {percent(tol, 1)} for every figure "
                              f"({worst})")
+                if len(rec.dofs) >= self.full_dofs:
+                    lines.append("  (it keeps every DOF: no simpler depth judged here answers "
+                                 "this question; try --propose)")
                 if rec.entry:
                     lines += ["paste into the file's depths: section:", rec.entry]
             else:
