@@ -158,12 +158,15 @@ def run(args: argparse.Namespace) -> int:
     model = assemble(assembly)
     question = _question(args, model.inputs)
     progress = None if (args.json or not sys.stderr.isatty()) else _progress
-    if args.propose:
-        from ..analysis.propose import search_depths
+    from ..threads import blas_threads_for
 
-        result = search_depths(model, question, tolerance, progress=progress)
-    else:
-        result = response_ladder(model, question, tolerance=tolerance, progress=progress)
+    with blas_threads_for(2 * model.n):    # small dense problems: one BLAS thread
+        if args.propose:
+            from ..analysis.propose import search_depths
+
+            result = search_depths(model, question, tolerance, progress=progress)
+        else:
+            result = response_ladder(model, question, tolerance=tolerance, progress=progress)
     if args.plot:
         result.plot(args.plot)
     if args.json:
