@@ -206,3 +206,26 @@ depths:
     lad = _ladder(path, Question(ride=("C", V, "coherent", (0.5, 80.0))))
     assert lad.depths == () and lad.recommended is None
     assert any("condensed left out" in n and "infinite" in n for n in lad.notes)
+
+
+def test_a_force_on_a_condensed_body_enters_through_the_expansion_exactly_at_zero_frequency():
+    # Guyan condensation is exact in statics (Guyan, 1965): a force on the
+    # engine, which the bounce-pitch depth condenses, gives the full model's
+    # static travel and tyre load at the depth too; at 15 Hz it does not
+    # (with the static correction of the force, as road inputs have theirs)
+    from builder.analysis.frf import frequency_response
+    from builder.analysis.response_ladder import _frf
+    from builder.reduce import reduce_to_depth
+
+    asm = load_assembly(ROOT / "assemblies" / "compact_car.yaml")
+    model = assemble(asm)
+    depth = reduce_to_depth(model, asm.depths["bounce_pitch"])
+    f = np.array([1e-4, 15.0])
+    for sensor in ("travel_fl", "tyre_load_rl", "floor_front"):
+        full = frequency_response(model, f, inputs=["engine.z"], sensors=[sensor]).H[:, 0, 0]
+        red = _frf(depth, "engine.z", sensor, f)
+        if sensor != "floor_front":         # an acceleration is zero in statics
+            assert red[0].real == pytest.approx(full[0].real, rel=1e-8), sensor
+            # the damping part, O(w c / k), is not exact in a Guyan depth
+            assert abs(red[0].imag - full[0].imag) < 1e-3 * abs(full[0]), sensor
+        assert abs(red[1] - full[1]) > 0.05 * abs(full[1]), sensor

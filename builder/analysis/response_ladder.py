@@ -34,6 +34,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
+import scipy.sparse as sp
 
 from ..assembly import Depth
 from ..errors import InputError, Where
@@ -318,24 +319,71 @@ def _force_input(model: LinearModel, label: str) -> Any:
     return (label, np.asarray(model.expansion.T @ vec).ravel(), unit)
 
 
+def _static_correction(model: LinearModel, label: str) -> np.ndarray | None:
+    """The part of the full model's static response to a unit force on ``label`` that
+    the depth's expansion E cannot give: g = K^-1 e - E (E^T K E)^-1 E^T e (zero when
+    the force acts on a kept DOF; None when the full stiffness is singular)."""
+    from scipy.sparse.linalg import splu
+
+    full = model.parent
+    e = np.zeros(full.n)
+    e[full.dof_index(label)] = 1.0
+    try:
+        exact = splu(sp.csc_matrix(full.K)).solve(e)
+        reduced = np.linalg.solve(model.K.toarray(), np.asarray(model.expansion.T @ e).ravel())
+    except (RuntimeError, np.linalg.LinAlgError):
+        return None
+    g = exact - np.asarray(model.expansion @ reduced).ravel()
+    return g if np.all(np.isfinite(g)) else None
+
+
+def _frf(model: LinearModel, source: str, sensor: str, f: np.ndarray) -> np.ndarray:
+    """Complex FRF (nf,) from ``source`` (a road input or a full-model DOF) to ``sensor``.
+
+    A force on a DOF a depth does not keep enters through the expansion with
+    its static correction g (as a road input on a condensed DOF does through
+    G): q_full = E q + g u, the depth loaded by E^T (e - (i w C + i H) g)
+    (E^T K g = 0) and the sensor reading g directly; its inertia is left out,
+    as in any Guyan reduction. At zero frequency this is the full model's
+    static response exactly.
+    """
+    from .frf import frequency_response
+
+    inp = _force_input(model, source)
+    if isinstance(inp, str):
+        return frequency_response(model, f, inputs=[inp], sensors=[sensor]).H[:, 0, 0]
+    g = _static_correction(model, source)
+    if g is None or not np.any(g):
+        return frequency_response(model, f, inputs=[inp], sensors=[sensor]).H[:, 0, 0]
+    full = model.parent
+    Et = model.expansion.T
+    cg = np.asarray(Et @ (full.C @ g)).ravel()
+    hg = np.asarray(Et @ (full.H @ g)).ravel()
+    h = frequency_response(model, f, inputs=[inp, ("damping", cg), ("loss", hg)],
+                           sensors=[sensor]).H[:, 0, :]
+    row = full.sensors.index(sensor)
+    w = 2 * np.pi * np.asarray(f, dtype=float)
+    direct = (float((full.Sd @ g)[row]) + 1j * w * float((full.Sv @ g)[row])
+              + 1j * float((full.Sh @ g)[row]))
+    return h[:, 0] - 1j * w * h[:, 1] - 1j * h[:, 2] + direct
+
+
 def _frf_peak(model: LinearModel, source: str, sensor: str, band: tuple[float, float],
               points: int) -> tuple[float, float]:
     """Largest |FRF| from ``source`` to ``sensor`` in the band, and its frequency (Hz):
     a log grid merged with clusters at the model's modes, then a bounded search."""
     from scipy.optimize import minimize_scalar
 
-    from .frf import SPARSE_LIMIT, frequency_response, resolving_grid, system_poles
+    from .frf import SPARSE_LIMIT, resolving_grid, system_poles
 
-    inp = _force_input(model, source)
     poles = system_poles(model) if model.n <= SPARSE_LIMIT else np.zeros(0, complex)
     f = np.union1d(np.geomspace(band[0], band[1], points), resolving_grid(band, 2, poles))
-    mag = np.abs(frequency_response(model, f, inputs=[inp], sensors=[sensor]).H[:, 0, 0])
+    mag = np.abs(_frf(model, source, sensor, f))
     k = int(np.argmax(mag))
     lo, hi = f[max(k - 1, 0)], f[min(k + 1, f.size - 1)]
     if hi > lo:
         def neg(x: float) -> float:
-            h = frequency_response(model, [x], inputs=[inp], sensors=[sensor]).H
-            return -float(np.abs(h[0, 0, 0]))
+            return -float(np.abs(_frf(model, source, sensor, np.array([x]))[0]))
         res = minimize_scalar(neg, bounds=(lo, hi), method="bounded",
                               options={"xatol": 1e-9 * hi})
         if -res.fun > mag[k]:
