@@ -132,13 +132,16 @@ class Sensor:
 
 @dataclass(frozen=True, eq=False)
 class Depth:
-    """A model depth: DOFs kept as masters (patterns), tie groups (first survives)."""
+    """A model depth: DOFs kept as masters (patterns), tie groups (first survives),
+    and ``modes``: (pattern, count) pairs, fixed-interface modes of the condensed DOFs
+    matching the pattern kept as extra coordinates (Craig-Bampton)."""
 
     name: str
     keep: tuple[str, ...]
     tie: tuple[tuple[str, ...], ...] = ()
     where: Where = field(default_factory=Where)
     keep_where: tuple[Where, ...] = ()
+    modes: tuple[tuple[str, int], ...] = ()
 
 
 @dataclass(frozen=True, eq=False)

@@ -386,7 +386,7 @@ def _depths(node: Node | None, dofs: tuple[str, ...]) -> dict[str, Depth]:
     if node is None:
         return out
     for name, dnode in node.mapping(what="a mapping of depth names").items():
-        f = dnode.mapping(("keep", "tie"), required=("keep",))
+        f = dnode.mapping(("keep", "tie", "modes"), required=("keep",))
         keep_nodes = f["keep"].items_list("a list of DOF names or patterns")
         keep = tuple(k.text("a DOF name or pattern") for k in keep_nodes)
         tie: list[tuple[str, ...]] = []
@@ -394,7 +394,24 @@ def _depths(node: Node | None, dofs: tuple[str, ...]) -> dict[str, Depth]:
             for g in f["tie"].items_list("a list of groups of DOF names"):
                 tie.append(tuple(x.text("a DOF name") for x in
                                  g.items_list("a list of DOF names to tie")))
-        depth = Depth(name, keep, tuple(tie), dnode.where, tuple(k.where for k in keep_nodes))
+        modes: list[tuple[str, int]] = []
+        kept = {d for k in keep for d in match_dofs(k, dofs)} | {d for g in tie for d in g[1:]}
+        taken: set[str] = set()
+        for pattern, count_node in (f["modes"].mapping(
+                what="a mapping of DOF patterns to mode counts").items() if "modes" in f else ()):
+            n = count_node.integer(minimum=1, maximum=10_000)
+            hits = match_dofs(pattern, dofs)
+            if not hits:
+                raise InputError(_unknown("DOF", pattern, dict.fromkeys(dofs)), count_node.where)
+            free = [d for d in hits if d not in kept and d not in taken]
+            if n > len(free):
+                raise InputError(f"asks for {n} modes of {len(free)} condensed DOFs (those the "
+                                 "pattern matches that the depth neither keeps nor ties "
+                                 "away, nor an earlier pattern took)", count_node.where)
+            taken.update(free)
+            modes.append((pattern, n))
+        depth = Depth(name, keep, tuple(tie), dnode.where, tuple(k.where for k in keep_nodes),
+                      tuple(modes))
         check_depths(depth, dofs, f.get("tie"))
         out[name] = depth
     return out

@@ -23,6 +23,7 @@ to move as one, the first named surviving.
 
 from __future__ import annotations
 
+import fnmatch
 from collections.abc import Iterable, Sequence
 
 import numpy as np
@@ -33,7 +34,8 @@ from .errors import InputError, Where
 from .linear import LinearModel
 from .load import check_depths, match_dofs
 
-__all__ = ["transform", "tie", "guyan", "reduce_to_depth", "reduce_keep", "full_model"]
+__all__ = ["transform", "tie", "guyan", "component_modes", "modal_name", "reduce_to_depth",
+           "reduce_keep", "full_model"]
 
 
 def transform(model: LinearModel, T: sp.csr_array, G: sp.csr_array | None,
@@ -85,15 +87,17 @@ def tie(model: LinearModel, groups: Iterable[Sequence[str]]) -> LinearModel:
     return transform(model, T, None, keep)
 
 
-def guyan(model: LinearModel, masters: Sequence[str]) -> LinearModel:
-    """Static condensation onto the master DOFs (kept in model order)."""
+def _static_basis(model: LinearModel, masters: Sequence[str]
+                  ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray] | None:
+    """Guyan's T (n, masters) and G (n, inputs), and the master and slave indices;
+    None when nothing is condensed."""
     mset = set(masters)
     m_idx = np.array([i for i, d in enumerate(model.dofs) if d in mset], dtype=int)
     s_idx = np.array([i for i, d in enumerate(model.dofs) if d not in mset], dtype=int)
     if len(m_idx) == 0:
         raise InputError("a depth must keep at least one DOF", Where(field="keep"))
     if len(s_idx) == 0:
-        return model
+        return None
     K = sp.csc_array(model.K)
     Kss = K[s_idx][:, s_idx]
     Ksm = K[s_idx][:, m_idx].toarray()
@@ -110,7 +114,66 @@ def guyan(model: LinearModel, masters: Sequence[str]) -> LinearModel:
     T[s_idx] = -X[:, :nm]
     G = np.zeros((model.n, Bs.shape[1]))
     G[s_idx] = X[:, nm:]
+    return T, G, m_idx, s_idx
+
+
+def guyan(model: LinearModel, masters: Sequence[str]) -> LinearModel:
+    """Static condensation onto the master DOFs (kept in model order)."""
+    basis = _static_basis(model, masters)
+    if basis is None:
+        return model
+    T, G, m_idx, _ = basis
     return transform(model, sp.csr_array(T), sp.csr_array(G), [model.dofs[i] for i in m_idx])
+
+
+def modal_name(pattern: str, k: int) -> str:
+    """Label of the k-th (1-based) modal coordinate of a ``modes:`` pattern:
+    ``body_s*.*`` -> ``body_s.mode1``."""
+    stem = pattern.split(".", 1)[0].translate(str.maketrans("", "", "*?[]")).strip("_")
+    return f"{stem or 'modal'}.mode{k}"
+
+
+def component_modes(model: LinearModel, masters: Sequence[str],
+                    modes: Sequence[tuple[str, int]], where: Where | None = None
+                    ) -> LinearModel:
+    """Craig-Bampton depth: Guyan condensation onto ``masters`` plus, for each
+    (pattern, count), the ``count`` lowest fixed-interface modes of the condensed
+    DOFs matching the pattern (every other DOF held), as extra coordinates
+    named by :func:`modal_name`.
+
+    With q = T_g q_m + Phi eta + G r the static constraint modes of the masters
+    are exact at zero frequency and the modes add the components' own dynamics
+    (Craig and Bampton, 1968); with no modes this is Guyan's reduction.
+    """
+    from .eigen import lowest_modes
+
+    at = (where or Where()).child("modes")
+    basis = _static_basis(model, masters)
+    if basis is None:
+        return model
+    T, G, m_idx, s_idx = basis
+    slaves = [model.dofs[i] for i in s_idx]
+    columns, names, used = [T], [model.dofs[i] for i in m_idx], set()
+    K, M = sp.csr_array(model.K), sp.csr_array(model.M)
+    for pattern, count in modes:
+        inner = np.array([i for i, d in zip(s_idx, slaves, strict=True)
+                          if fnmatch.fnmatchcase(d, pattern) and i not in used], dtype=int)
+        if inner.size == 0:
+            raise InputError(f'"{pattern}" matches no condensed DOF: its modes would be '
+                             "empty", at)
+        if count > inner.size:
+            raise InputError(f'"{pattern}" asks for {count} modes of {inner.size} condensed '
+                             "DOFs", at)
+        used.update(inner.tolist())
+        _, phi = lowest_modes(K[inner][:, inner], M[inner][:, inner], count)
+        block = np.zeros((model.n, count))
+        block[inner] = phi
+        columns.append(block)
+        names += [modal_name(pattern, k + 1) for k in range(count)]
+    if len(set(names)) != len(names):
+        raise InputError("two modes: patterns give the same coordinate names; name the "
+                         "bodies apart", at)
+    return transform(model, sp.csr_array(np.hstack(columns)), sp.csr_array(G), names)
 
 
 def _singular(Kss: sp.csc_array) -> bool:
@@ -144,13 +207,15 @@ def reduce_keep(model: LinearModel, keep: Sequence[str],
 
 
 def reduce_to_depth(model: LinearModel, depth: Depth) -> LinearModel:
-    """The model at a depth: ties applied, then Guyan condensation to ``keep``."""
+    """The model at a depth: ties applied, then Guyan condensation to ``keep`` (with
+    the depth's fixed-interface ``modes``, :func:`component_modes`)."""
     check_depths(depth, model.dofs)
     tied = tie(model, depth.tie)
     masters: list[str] = []
     for pattern in depth.keep:
         masters.extend(d for d in match_dofs(pattern, tied.dofs) if d not in masters)
-    out = guyan(tied, masters)
+    out = (component_modes(tied, masters, depth.modes, depth.where) if depth.modes
+           else guyan(tied, masters))
     return out.with_matrices(name=f"{model.name} [{depth.name}]")
 
 

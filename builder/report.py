@@ -9,7 +9,11 @@
 4. the review sheet of the lowest modes (:mod:`builder.render`);
 5. where the file has road points and sensors: frequency responses from the
    road and the ride figures on an ISO 8608 road (:mod:`builder.analysis.ride`);
-6. each plugin's own tables, when the plugin module offers them;
+6. the depths judged on those ride figures
+   (:mod:`builder.analysis.response_ladder`: errors against the full model, 5 %
+   tolerance, the recommended depth; with no depths in the file, the search of
+   ``ladder --propose``);
+7. each plugin's own tables, when the plugin module offers them;
 
 and the caution text. Every image is a PNG embedded as a ``data:`` URI, so
 the page is one file that can be mailed or archived. A section whose
@@ -295,6 +299,27 @@ def _ladder(model: Any) -> str:
     return "\n".join(out)
 
 
+def _response_ladder(model: Any, road_class: str, speed_m_s: float) -> str:
+    """The depths judged on the ride figures of the report's road (the file's depths;
+    with none, the search of ``ladder --propose``), 5 % tolerance."""
+    if not model.inputs or not model.sensors:
+        return ""
+    from .analysis.response_ladder import DEFAULT_TOLERANCE, Question, response_ladder
+    from .analysis.ride import DEFAULT_BAND
+    from .reduce import full_model
+
+    full = full_model(model)
+    question = Question(ride=(road_class, speed_m_s, "coherent", DEFAULT_BAND))
+    if full.assembly is not None and full.assembly.depths:
+        result = response_ladder(full, question, tolerance=DEFAULT_TOLERANCE)
+    else:
+        from .analysis.propose import search_depths
+
+        result = search_depths(full, question, DEFAULT_TOLERANCE)
+    return (f"<pre>{_e(result.table())}</pre>"
+            + _img(_figure_png(result.plot()), "error of each depth against its DOF count"))
+
+
 def _sheet(assembly: Any, model: Any, modes: Any, count: int) -> str:
     from .render import build_scene, encode_png, expanded_modes, render_sheet
 
@@ -487,6 +512,8 @@ def report_html(assembly: Assembly, model: LinearModel, *, sheet: int = 12, road
         _section("Review sheet", lambda: _sheet(assembly, model, modes, sheet)),
         _section("Frequency response from the road", lambda: _frf(model)),
         _section("Ride on a random road", lambda: _ride(model, road_class, speed_m_s)),
+        _section("Model ladder on the ride figures",
+                 lambda: _response_ladder(model, road_class, speed_m_s)),
         _section("Plugin analyses", lambda: _plugins(assembly, model, road_class=road_class,
                                                      speed_m_s=speed_m_s)),
         f'<div class="caution">{_e(CAUTION)}</div>',
