@@ -19,7 +19,7 @@ BLAS thread (``OPENBLAS_NUM_THREADS=1`` and
 3. Thread independence: the in-process kernels (modes, assembly and FRFs
    of the 70-DOF car and of a 69-DOF van) with default threading against
    one thread, set by threadpoolctl and interleaved call by call, best of
-   15 calls each (target: within 20 %).
+   25 calls each (10 with --quick; target: within 20 %).
 4. Assembly and modes of the 10-DOF model after loading (target: < 5 ms).
 5. A chain of 4,000 bodies (24,000 DOFs) assembles in < 2.2x the time of
    2,000 bodies (no quadratic step), and its lowest 20 modes come from the
@@ -172,7 +172,7 @@ def main() -> int:
                      f"{size:.2f} CPU ({ms['modes 70 DOFs']} / {ms['modes 10 DOFs']}), "
                      f"{size_wall:.2f} wall", size < 1.3)
 
-    best = kernel_times(5 if quick else 15)
+    best = kernel_times(10 if quick else 25)
     print("3. kernels, default threading / one thread (threadpoolctl, interleaved; "
           "target within 20 %):")
     ratios = {}
