@@ -15,7 +15,9 @@
    analyse, print), on the 81-DOF light van with split body and seat
    (tests/fixtures/light_van.yaml) and the 21-DOF seat car
    (assemblies/compact_car_seat.yaml): target ride <= 1.3 x modes, with the
-   machine's default BLAS threading and with one thread.
+   machine's default BLAS threading and with one thread. The ratio is judged
+   on CPU time (this process, all its threads), which the load of other work
+   on a shared machine moves far less than wall time (printed beside it).
 
 Comparisons 1 and 2 run on one BLAS thread (threadpoolctl): on a small shared
 machine a threaded BLAS spends more time in thread hand-over than in these
@@ -89,17 +91,18 @@ def ride_against_modes() -> bool:
                 def ride(p=path):
                     command("ride", p, "--road", "C", "--speed", "70 km/h")
 
-                t_modes, t_ride = best_of(modes, 5), best_of(ride, 5)
-                c_modes, c_ride = best_of(modes, 5, time.process_time), best_of(
-                    ride, 5, time.process_time)
-                ratio = t_ride / t_modes
-                ok &= figure(f"ride (every sensor) / modes, {path.name} ({n} DOFs), {setting}",
-                             "<= 1.3", f"{ratio:.2f} ({t_ride * 1e3:.0f} / {t_modes * 1e3:.0f} ms; "
-                             f"CPU {c_ride / c_modes:.2f})", ratio <= 1.3)
-                print(f"3. {path.name} ({n} DOFs), {setting}: ride {t_ride * 1e3:.0f} ms, "
-                      f"modes {t_modes * 1e3:.0f} ms: ride / modes {ratio:.2f} (target <= 1.3) "
-                      f"{'PASS' if ratio <= 1.3 else 'FAIL'}; in CPU time "
-                      f"{c_ride * 1e3:.0f} / {c_modes * 1e3:.0f} ms = {c_ride / c_modes:.2f}")
+                t_modes, t_ride = best_of(modes, 7), best_of(ride, 7)
+                c_modes, c_ride = best_of(modes, 7, time.process_time), best_of(
+                    ride, 7, time.process_time)
+                ratio, wall = c_ride / c_modes, t_ride / t_modes
+                ok &= ratio <= 1.3
+                print(f"3. {path.name} ({n} DOFs), {setting}: CPU time ride {c_ride * 1e3:.0f} "
+                      f"ms, modes {c_modes * 1e3:.0f} ms: ride / modes {ratio:.2f} (target <= "
+                      f"1.3) {'PASS' if ratio <= 1.3 else 'FAIL'}; in wall time "
+                      f"{t_ride * 1e3:.0f} / {t_modes * 1e3:.0f} ms = {wall:.2f}")
+                figure(f"ride (every sensor) / modes, {path.name} ({n} DOFs), {setting}",
+                       "<= 1.3", f"{ratio:.2f} CPU ({c_ride * 1e3:.0f} / {c_modes * 1e3:.0f} ms), "
+                       f"{wall:.2f} wall", ratio <= 1.3)
     return ok
 
 
