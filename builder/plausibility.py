@@ -194,10 +194,11 @@ def _where(model: LinearModel, body) -> Where:
 def _masses(model: LinearModel) -> list[Finding]:
     out = []
     md = np.asarray(model.M.diagonal(), dtype=float)
-    rotational = np.array([d.rsplit(".", 1)[-1] in ("rx", "ry", "rz") for d in model.dofs])
     bodies = model.assembly.bodies
+    split = [d.rsplit(".", 1) for d in model.dofs]
+    rotational = np.array([p[-1] in ("rx", "ry", "rz") for p in split], dtype=bool)
     # body DOFs only: a superelement's interior coordinates carry its own given matrices
-    on_body = np.array([d.rsplit(".", 1)[0] in bodies for d in model.dofs], dtype=bool)
+    on_body = np.array([p[0] in bodies for p in split], dtype=bool)
     for kind, mask, unit in (("mass", ~rotational & on_body, "kg"),
                              ("inertia", rotational & on_body, "kg m^2")):
         if not mask.any():
