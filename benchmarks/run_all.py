@@ -3,6 +3,7 @@
     python3 benchmarks/run_all.py            # every figure (about 15 minutes on 2 cores)
     python3 benchmarks/run_all.py --quick    # the same targets, fewer rounds and sizes
     python3 benchmarks/run_all.py --only core check
+    python3 benchmarks/run_all.py --markdown  # the table in Markdown too, for the README
 
 Each benchmark runs in its own process, exactly as when run by hand, with its
 output kept in a log (``--logs FOLDER``, else a temporary folder, printed on a
@@ -67,6 +68,13 @@ def load_average() -> str:
     return f"{one:.2f}, {five:.2f}, {fifteen:.2f} (1, 5, 15 min)"
 
 
+def markdown(rows: list[list[str]]) -> str:
+    """The summary rows as a Markdown table (figure, target, measured, result)."""
+    lines = ["| figure | target | measured | result |", "|---|---|---|---|"]
+    lines += [f"| {r[1]} | {r[2]} | {r[3]} | {r[4]} |" for r in rows]
+    return "\n".join(lines)
+
+
 def run(name: str, quick: bool, logs: Path) -> tuple[list[dict], int, float]:
     """Run one benchmark; its figures, exit code and wall time (s)."""
     script, _ = BENCHMARKS[name]
@@ -87,6 +95,8 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--only", nargs="+", choices=sorted(BENCHMARKS), metavar="NAME",
                     help=f"run only these ({', '.join(BENCHMARKS)})")
     ap.add_argument("--logs", type=Path, help="keep each benchmark's output in this folder")
+    ap.add_argument("--markdown", action="store_true",
+                    help="print the table in Markdown too (as in the README)")
     args = ap.parse_args(argv)
     names = [n for n in BENCHMARKS if not args.only or n in args.only]
     folder = None if args.logs else tempfile.TemporaryDirectory()
@@ -111,6 +121,8 @@ def main(argv: list[str] | None = None) -> int:
                  for f in figures]
     print(f"load average after: {load_average()}\n")
     print(text_table(["bench", "figure", "target", "measured", "result"], rows))
+    if args.markdown:
+        print("\n" + markdown(rows))
     missed = sum(r[4] == "MISSED" for r in rows)
     print(f"\n{len(rows)} figures, {missed} missed"
           + (f"; did not run: {', '.join(broken)}" if broken else "")
