@@ -19,7 +19,9 @@ BLAS thread (``OPENBLAS_NUM_THREADS=1`` and
 3. Thread independence: the in-process kernels (modes, assembly and FRFs
    of the 70-DOF car and of a 69-DOF van) with default threading against
    one thread, set by threadpoolctl and interleaved call by call, best of
-   25 calls each (10 with --quick; target: within 20 %).
+   25 calls each (10 with --quick; target: within 20 %), judged on CPU time
+   like the whole processes (a BLAS thread that spins on a small problem
+   shows there; wall time is printed beside it).
 4. Assembly and modes of the 10-DOF model after loading (target: < 5 ms).
 5. A chain of 4,000 bodies (24,000 DOFs) assembles in < 2.2x the time of
    2,000 bodies (no quadratic step), and its lowest 20 modes come from the
@@ -110,17 +112,19 @@ def kernel_times(rounds: int) -> dict[str, dict[str, float]]:
         kernels[name + " modes"] = lambda m=model: compute_modes(m)
         kernels[name + " assemble"] = lambda a=asm: assemble(a)
         kernels[name + " FRF, 400 frequencies"] = lambda m=model: frequency_response(m, grid)
-    best = {"default": dict.fromkeys(kernels, float("inf")),
-            "one": dict.fromkeys(kernels, float("inf"))}
+    best = {(threads, clock): dict.fromkeys(kernels, float("inf"))
+            for threads in ("default", "one") for clock in ("wall", "cpu")}
     for fn in kernels.values():          # warm-up: imports and caches
         fn()
     for _ in range(rounds):
         for key, fn in kernels.items():
             for threads, limit in (("default", None), ("one", 1)):
                 with threadpool_limits(limits=limit):
-                    t = time.perf_counter()
+                    t, c = time.perf_counter(), time.process_time()
                     fn()
-                    best[threads][key] = min(best[threads][key], time.perf_counter() - t)
+                    wall, cpu = time.perf_counter() - t, time.process_time() - c
+                best[threads, "wall"][key] = min(best[threads, "wall"][key], wall)
+                best[threads, "cpu"][key] = min(best[threads, "cpu"][key], cpu)
     return best
 
 
@@ -173,15 +177,18 @@ def main() -> int:
                      f"{size_wall:.2f} wall", size < 1.3)
 
     best = kernel_times(10 if quick else 25)
-    print("3. kernels, default threading / one thread (threadpoolctl, interleaved; "
-          "target within 20 %):")
+    print("3. kernels, default threading / one thread (threadpoolctl, interleaved; CPU time "
+          "of all threads, wall time beside it; target within 20 %):")
     ratios = {}
-    for k in best["default"]:
-        ratios[k] = best["default"][k] / best["one"][k]
-        print(f"   {k:44s} {best['default'][k] * 1000:7.2f} ms / {best['one'][k] * 1000:7.2f} ms"
-              f" = {ratios[k]:.2f}")
+    for k in best["default", "cpu"]:
+        cpu = [best[th, "cpu"][k] for th in ("default", "one")]
+        wall = [best[th, "wall"][k] for th in ("default", "one")]
+        ratios[k] = cpu[0] / cpu[1]
+        print(f"   {k:44s} CPU {cpu[0] * 1000:7.2f} ms / {cpu[1] * 1000:7.2f} ms = "
+              f"{ratios[k]:.2f}; wall {wall[0] * 1000:7.2f} / {wall[1] * 1000:7.2f} ms = "
+              f"{wall[0] / wall[1]:.2f}")
     worst = max(ratios, key=lambda k: abs(ratios[k] - 1.0))
-    ok &= figure("kernels: default / one BLAS thread (6 kernels, 70 and 69 DOFs)",
+    ok &= figure("kernels: default / one BLAS thread (6 kernels, 70 and 69 DOFs), CPU time",
                  "0.8 to 1.2", f"{min(ratios.values()):.2f} to {max(ratios.values()):.2f} "
                  f"(worst: {worst})", all(0.8 <= r <= 1.2 for r in ratios.values()))
 
