@@ -1,7 +1,7 @@
 """Run the speed benchmarks one after the other and print one summary table.
 
-    python3 benchmarks/run_all.py            # every figure (about 15 minutes on 2 cores)
-    python3 benchmarks/run_all.py --quick    # the same targets, fewer rounds and sizes
+    python3 benchmarks/run_all.py            # every figure (35 minutes on a loaded 2-core machine)
+    python3 benchmarks/run_all.py --quick    # the same targets, fewer rounds and sizes (17 minutes)
     python3 benchmarks/run_all.py --only core check
     python3 benchmarks/run_all.py --markdown  # the table in Markdown too, for the README
 
