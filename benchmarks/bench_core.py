@@ -22,7 +22,7 @@ BLAS thread (``OPENBLAS_NUM_THREADS=1`` and
    25 calls each (10 with --quick; target: within 20 %), judged on CPU time
    like the whole processes (a BLAS thread that spins on a small problem
    shows there; wall time is printed beside it).
-4. Assembly and modes of the 10-DOF model after loading (target: < 5 ms).
+4. Assembly and modes of the 10-DOF model after loading (target: < 5 ms CPU).
 5. A chain of 4,000 bodies (24,000 DOFs) assembles in < 2.2x the time of
    2,000 bodies (no quadratic step), and its lowest 20 modes come from the
    sparse shift-invert path.
@@ -52,12 +52,13 @@ from builder.load import load_assembly  # noqa: E402
 ONE_THREAD = {"OPENBLAS_NUM_THREADS": "1", "OMP_NUM_THREADS": "1", "MKL_NUM_THREADS": "1"}
 
 
-def best_of(fn, repeat: int = 5) -> float:
+def best_of(fn, repeat: int = 5, clock=time.perf_counter) -> float:
+    """Best time (s) of ``repeat`` calls by ``clock`` (wall time by default)."""
     times = []
     for _ in range(repeat):
-        t = time.perf_counter()
+        t = clock()
         fn()
-        times.append(time.perf_counter() - t)
+        times.append(clock() - t)
     return min(times)
 
 
@@ -193,17 +194,17 @@ def main() -> int:
                  f"(worst: {worst})", all(0.8 <= r <= 1.2 for r in ratios.values()))
 
     asm = load_assembly(car)
-    t = best_of(lambda: compute_modes(assemble(asm)), 20)
-    print(f"4. assemble + modes of the 10-DOF model: {t * 1000:.2f} ms (target < 5 ms)")
+    t = best_of(lambda: compute_modes(assemble(asm)), 20, time.process_time)
+    print(f"4. assemble + modes of the 10-DOF model: {t * 1000:.2f} ms CPU (target < 5 ms)")
     ok &= figure("assemble + modes of the 10-DOF car, in process", "< 5 ms",
-                 f"{t * 1000:.1f} ms", t < 0.005)
+                 f"{t * 1000:.1f} ms CPU", t < 0.005)
 
     c2, c4 = chain(2000), chain(4000)
-    t2 = best_of(lambda: assemble(c2), 5)
-    t4 = best_of(lambda: assemble(c4), 5)
+    t2 = best_of(lambda: assemble(c2), 5, time.process_time)
+    t4 = best_of(lambda: assemble(c4), 5, time.process_time)
     ok &= figure("assembly of a 4,000-body chain / 2,000 bodies (24,000 DOFs)", "< 2.2",
                  f"{t4 / t2:.2f} ({t4:.3f} / {t2:.3f} s)", t4 / t2 < 2.2)
-    print(f"5. assembly of 2,000 bodies {t2:.3f} s, 4,000 bodies {t4:.3f} s: ratio "
+    print(f"5. assembly of 2,000 bodies {t2:.3f} s, 4,000 bodies {t4:.3f} s CPU: ratio "
           f"{t4 / t2:.2f} (target < 2.2)")
     model = assemble(c4)
     t = time.perf_counter()
