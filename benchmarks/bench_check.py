@@ -41,6 +41,7 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
 from bench_core import best_of  # noqa: E402  (same folder)
+from figures import figure  # noqa: E402
 
 from builder.analysis.checks import check_model  # noqa: E402
 from builder.assembly import Assembly, Body, End, Link, RoadPoint  # noqa: E402
@@ -126,24 +127,28 @@ def main() -> int:
     for name, runs in results.items():
         small = runs[0]
         for label in ("default", "1 thread"):
-            ok = small[label] < 2.0
+            ok = figure(f"check of the {small['dofs']:,}-DOF {name}, {label}", "< 2 s",
+                        f"{small[label]:.2f} s", small[label] < 2.0)
             failed += [] if ok else [f"{name} {label}"]
             print(f"1. {name}, {small['dofs']} DOFs, {label}: {small[label]:.2f} s "
                   f"(target < 2 s) {'ok' if ok else 'MISSED'}")
         if len(runs) > 1:
             ratio = runs[1]["default"] / small["default"]
             lu = runs[1]["baseline"] / small["baseline"]
-            ok = ratio < 2.2
+            ok = figure(f"check of the {name}: {runs[1]['dofs']:,} / {small['dofs']:,} DOFs",
+                        "< 2.2", f"{ratio:.2f} (LU of K: {lu:.2f})", ratio < 2.2)
             failed += [] if ok else [f"{name} growth"]
             print(f"2. {name}: {runs[1]['dofs']} / {small['dofs']} DOFs take {ratio:.2f} x "
                   f"(target < 2.2; the LU baseline grows {lu:.2f} x)"
                   f" {'ok' if ok else 'MISSED'}")
-        ok = all(r["lines"] <= SCREEN for r in runs)
+        lines = max(r["lines"] for r in runs)
+        ok = figure(f"check summary of the {name}", f"<= {SCREEN} lines", f"{lines} lines",
+                    lines <= SCREEN)
         failed += [] if ok else [f"{name} screen"]
         print(f"3. {name}: summary of {max(r['lines'] for r in runs)} lines "
               f"(target <= {SCREEN}) {'ok' if ok else 'MISSED'}")
     print("all targets met" if not failed else "missed: " + ", ".join(failed))
-    return 0
+    return 0 if not failed else 1
 
 
 if __name__ == "__main__":

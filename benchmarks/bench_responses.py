@@ -15,7 +15,9 @@
    analyse, print), on the 81-DOF light van with split body and seat
    (tests/fixtures/light_van.yaml) and the 21-DOF seat car
    (assemblies/compact_car_seat.yaml): target ride <= 1.3 x modes, with the
-   machine's default BLAS threading and with one thread.
+   machine's default BLAS threading and with one thread. The ratio is judged
+   on CPU time (this process, all its threads), which the load of other work
+   on a shared machine moves far less than wall time (printed beside it).
 
 Comparisons 1 and 2 run on one BLAS thread (threadpoolctl): on a small shared
 machine a threaded BLAS spends more time in thread hand-over than in these
@@ -38,6 +40,7 @@ sys.path.insert(0, str(ROOT))
 
 import control  # noqa: E402
 import numpy as np  # noqa: E402
+from figures import figure  # noqa: E402  (same folder)
 from threadpoolctl import threadpool_limits  # noqa: E402
 
 from builder.analysis import comfort  # noqa: E402
@@ -88,15 +91,18 @@ def ride_against_modes() -> bool:
                 def ride(p=path):
                     command("ride", p, "--road", "C", "--speed", "70 km/h")
 
-                t_modes, t_ride = best_of(modes, 5), best_of(ride, 5)
-                c_modes, c_ride = best_of(modes, 5, time.process_time), best_of(
-                    ride, 5, time.process_time)
-                ratio = t_ride / t_modes
+                t_modes, t_ride = best_of(modes, 7), best_of(ride, 7)
+                c_modes, c_ride = best_of(modes, 7, time.process_time), best_of(
+                    ride, 7, time.process_time)
+                ratio, wall = c_ride / c_modes, t_ride / t_modes
                 ok &= ratio <= 1.3
-                print(f"3. {path.name} ({n} DOFs), {setting}: ride {t_ride * 1e3:.0f} ms, "
-                      f"modes {t_modes * 1e3:.0f} ms: ride / modes {ratio:.2f} (target <= 1.3) "
-                      f"{'PASS' if ratio <= 1.3 else 'FAIL'}; in CPU time "
-                      f"{c_ride * 1e3:.0f} / {c_modes * 1e3:.0f} ms = {c_ride / c_modes:.2f}")
+                print(f"3. {path.name} ({n} DOFs), {setting}: CPU time ride {c_ride * 1e3:.0f} "
+                      f"ms, modes {c_modes * 1e3:.0f} ms: ride / modes {ratio:.2f} (target <= "
+                      f"1.3) {'PASS' if ratio <= 1.3 else 'FAIL'}; in wall time "
+                      f"{t_ride * 1e3:.0f} / {t_modes * 1e3:.0f} ms = {wall:.2f}")
+                figure(f"ride (every sensor) / modes, {path.name} ({n} DOFs), {setting}",
+                       "<= 1.3", f"{ratio:.2f} CPU ({c_ride * 1e3:.0f} / {c_modes * 1e3:.0f} ms), "
+                       f"{wall:.2f} wall", ratio <= 1.3)
     return ok
 
 
@@ -161,7 +167,11 @@ def responses() -> bool:
           f"{len(result.sensors)} sensors, VDV of {len(result.vdv)}): {t_bump * 1e3:.1f} ms "
           f"(target < 200 ms) {'PASS' if t_bump < 0.2 else 'FAIL'}; of which the ISO 2631-1 "
           f"weighting filters (comfort.py) {t_weight * 1e3:.1f} ms")
-    return ratio >= 10 and t_bump < 0.2
+    ok = figure("FRF of the 10-DOF car, 5,000 frequencies: python-control / lumpgraph",
+                ">= 10", f"{ratio:.1f} ({t_theirs * 1e3:.1f} / {t_ours * 1e3:.2f} ms)", ratio >= 10)
+    ok &= figure("20 s bump transient of the 10-DOF car at 1 kHz, all sensors", "< 0.2 s",
+                 f"{t_bump:.3f} s", t_bump < 0.2)
+    return ok
 
 
 if __name__ == "__main__":

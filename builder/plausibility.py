@@ -159,18 +159,25 @@ _FAR = 1.0e5
 
 
 def _points(model: LinearModel) -> list[Finding]:
-    out = []
-    for link in model.assembly.links.values():
-        for end in (link.a, link.b):
-            at = getattr(end, "at", None)
-            if at is None:
-                continue
-            p = np.asarray(at, dtype=float)
-            if not (np.all(np.isfinite(p)) and float(np.max(np.abs(p), initial=0.0)) <= _FAR):
-                out.append(Finding(True, f"point {_vector(p)} m of end {end.node} lies beyond "
-                                   f"{_FAR:.0e} m: check the coordinates", link.where))
-                return out
-    return out
+    ends = [(link, end) for link in model.assembly.links.values() for end in (link.a, link.b)
+            if getattr(end, "at", None) is not None]
+    if not ends:
+        return []
+    try:
+        points = np.array([end.at for _, end in ends], dtype=float).reshape(len(ends), -1)
+    except ValueError:     # points of different lengths: one at a time
+        points = None
+    if points is not None:
+        good = np.isfinite(points).all(axis=1) & (np.abs(points).max(axis=1, initial=0.0)
+                                                  <= _FAR)
+        bad = np.flatnonzero(~good)
+        ends = [ends[int(bad[0])]] if len(bad) else []
+    for link, end in ends:
+        p = np.asarray(end.at, dtype=float)
+        if not (np.all(np.isfinite(p)) and float(np.max(np.abs(p), initial=0.0)) <= _FAR):
+            return [Finding(True, f"point {_vector(p)} m of end {end.node} lies beyond "
+                            f"{_FAR:.0e} m: check the coordinates", link.where)]
+    return []
 
 
 def _vector(p: np.ndarray) -> str:
@@ -187,10 +194,11 @@ def _where(model: LinearModel, body) -> Where:
 def _masses(model: LinearModel) -> list[Finding]:
     out = []
     md = np.asarray(model.M.diagonal(), dtype=float)
-    rotational = np.array([d.rsplit(".", 1)[-1] in ("rx", "ry", "rz") for d in model.dofs])
     bodies = model.assembly.bodies
+    split = [d.rsplit(".", 1) for d in model.dofs]
+    rotational = np.array([p[-1] in ("rx", "ry", "rz") for p in split], dtype=bool)
     # body DOFs only: a superelement's interior coordinates carry its own given matrices
-    on_body = np.array([d.rsplit(".", 1)[0] in bodies for d in model.dofs], dtype=bool)
+    on_body = np.array([p[0] in bodies for p in split], dtype=bool)
     for kind, mask, unit in (("mass", ~rotational & on_body, "kg"),
                              ("inertia", rotational & on_body, "kg m^2")):
         if not mask.any():
@@ -220,11 +228,17 @@ def _implied(model: LinearModel) -> tuple[list[str], np.ndarray, np.ndarray]:
         scaled = sp.csr_array(share @ sp.diags_array(1.0 / md))
     omega2 = np.zeros(len(names))
     dof = np.zeros(len(names), dtype=int)
-    for i in range(len(names)):
-        lo, hi = scaled.indptr[i], scaled.indptr[i + 1]
-        if hi > lo:
-            j = int(np.argmax(scaled.data[lo:hi]))
-            omega2[i], dof[i] = scaled.data[lo + j], scaled.indices[lo + j]
+    # each row's largest entry (the first of equal ones, NaN first as np.argmax takes it)
+    counts = np.diff(scaled.indptr)
+    rows = np.flatnonzero(counts)
+    if len(rows):
+        data = scaled.data[:scaled.indptr[-1]]
+        top = np.maximum.reduceat(data, scaled.indptr[rows])
+        row_of = np.repeat(np.arange(len(rows)), counts[rows])
+        at_top = (data == top[row_of]) | (np.isnan(data) & np.isnan(top[row_of]))
+        hits = np.flatnonzero(at_top)
+        _, first = np.unique(row_of[hits], return_index=True)
+        omega2[rows], dof[rows] = data[hits[first]], scaled.indices[hits[first]]
     return names, np.nan_to_num(omega2, nan=np.inf, posinf=np.inf), dof
 
 

@@ -445,6 +445,7 @@ class _Parser:
 
 _NUMBER = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$")
 _EXPR = re.compile(r"^\s*\$\{(.*)\}\s*(.*?)\s*$", re.S)
+_ONE_NAME = re.compile(r"\s*([A-Za-z_][A-Za-z_0-9]*)\s*")
 
 
 def parse_quantity(value: object,
@@ -484,6 +485,9 @@ def parse_quantity(value: object,
             if name not in table:
                 raise ValueError(f"unknown parameter {shown(name)}")
             return table[name]
+    name = _ONE_NAME.fullmatch(m.group(1)) if len(m.group(1)) <= MAX_EXPRESSION_CHARS else None
+    if name and name.group(1) != "pi":   # ${name} alone, the common case: no parser needed
+        return _with_unit(lookup(name.group(1)), m.group(2))
     return _with_unit(_Parser(m.group(1), lookup).parse(), m.group(2))
 
 

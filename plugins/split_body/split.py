@@ -263,8 +263,9 @@ def split_body(assembly: Assembly, spec: SplitSpec) -> Assembly:
     if clash:
         raise InputError(f'the split would make "{clash[0]}", which already exists; '
                          "choose another name", spec.where)
-    segments = [Body(n, float(m), cg.copy(), 0.5 * (j + j.T), DOF_NAMES, None, b.where)
-                for n, m, cg, j in zip(names, lay.masses, lay.cgs, lay.inertias)]
+    inertias = 0.5 * (lay.inertias + lay.inertias.transpose(0, 2, 1))   # exactly symmetric
+    segments = [Body(n, m, cg, j, DOF_NAMES, None, b.where)
+                for n, m, cg, j in zip(names, lay.masses.tolist(), lay.cgs.copy(), inertias)]
     _check_mass_properties(b, segments, spec.where)
 
     bodies: dict[str, Body] = {}
