@@ -53,6 +53,7 @@ def transform(model: LinearModel, T: sp.csr_array, G: sp.csr_array | None,
         return ((out + out.T) * 0.5).tocsr()
 
     parent = model.parent if model.parent is not None else model
+    base = model if model.parent is None or model.joints is not None else model.base
     if model.parent is not None:
         expansion = sp.csr_array(model.expansion @ T)
         expansion_input = sp.csr_array(model.expansion @ G + model.expansion_input)
@@ -68,7 +69,8 @@ def transform(model: LinearModel, T: sp.csr_array, G: sp.csr_array | None,
         Sa=sp.csr_array(model.Sa @ T), Sh=sp.csr_array(model.Sh @ T),
         Dr=sp.csr_array(model.Dr + model.Sd @ G), Dv=sp.csr_array(model.Dv + model.Sv @ G),
         Dh=sp.csr_array(model.Dh + model.Sh @ G),
-        parent=parent, expansion=expansion, expansion_input=expansion_input)
+        parent=parent, expansion=expansion, expansion_input=expansion_input,
+        base=base, joints=None)
 
 
 def tie(model: LinearModel, groups: Iterable[Sequence[str]]) -> LinearModel:
@@ -155,5 +157,9 @@ def reduce_to_depth(model: LinearModel, depth: Depth) -> LinearModel:
 
 
 def full_model(model: LinearModel) -> LinearModel:
-    """The unreduced model a reduced one came from (itself if not reduced)."""
-    return model.parent if model.parent is not None else model
+    """The unreduced model a reduced one came from (itself if not reduced); for a
+    jointed assembly the constrained model (its joints eliminated), not the
+    unconstrained ``parent``."""
+    if model.parent is None or model.joints is not None:
+        return model
+    return model.base if model.base is not None else model.parent
