@@ -179,8 +179,8 @@ def joint_rows(assembly: Any, layout: Any, n: int
 
 
 def slave_preference(assembly: Any, dofs: Sequence[str]) -> np.ndarray:
-    """A sort key per root DOF, lowest = best slave: (kept by a depth, body mass,
-    translation before rotation... reversed) as one float array."""
+    """A sort key per root DOF, lowest = best slave: DOFs no depth keeps first, then
+    those of lighter bodies, then rotations before translations."""
     keep = [p for d in assembly.depths.values() for p in d.keep]
     mass = {b.name: b.mass for b in assembly.bodies.values()}
     heaviest = max(mass.values(), default=1.0) or 1.0
@@ -188,8 +188,8 @@ def slave_preference(assembly: Any, dofs: Sequence[str]) -> np.ndarray:
     for i, label in enumerate(dofs):
         body, _, dof = label.rpartition(".")
         kept = any(fnmatch.fnmatchcase(label, p) for p in keep)
-        key[i] = (4.0 if kept else 0.0) + min(mass.get(body, heaviest) / heaviest, 1.0) \
-            + (0.0 if dof.startswith("r") else 2.0)
+        key[i] = (10.0 if kept else 0.0) + 4.0 * min(mass.get(body, heaviest) / heaviest, 1.0) \
+            + (0.0 if dof.startswith("r") else 0.5)
     return key
 
 

@@ -33,7 +33,7 @@ from .errors import InputError, Where
 from .linear import LinearModel
 from .load import check_depths, match_dofs
 
-__all__ = ["transform", "tie", "guyan", "reduce_to_depth", "reduce_keep", "full_model"]
+__all__ = ["transform", "tie", "tie_map", "guyan", "reduce_to_depth", "reduce_keep", "full_model"]
 
 
 def transform(model: LinearModel, T: sp.csr_array, G: sp.csr_array | None,
@@ -78,13 +78,19 @@ def tie(model: LinearModel, groups: Iterable[Sequence[str]]) -> LinearModel:
     groups = [list(g) for g in groups]
     if not groups:
         return model
-    survivor = {d: g[0] for g in groups for d in g[1:]}
-    keep = [d for d in model.dofs if d not in survivor]
-    col = {d: i for i, d in enumerate(keep)}
-    rows = np.arange(model.n)
-    cols = np.array([col[survivor.get(d, d)] for d in model.dofs])
-    T = sp.csr_array((np.ones(model.n), (rows, cols)), shape=(model.n, len(keep)))
+    T, keep = tie_map(model.dofs, groups)
     return transform(model, T, None, keep)
+
+
+def tie_map(dofs: Sequence[str], groups: Iterable[Sequence[str]]
+            ) -> tuple[sp.csr_array, list[str]]:
+    """The 0/1 map q = T q_tied of tie groups over ``dofs`` and the surviving DOFs."""
+    survivor = {d: g[0] for g in groups for d in g[1:]}
+    keep = [d for d in dofs if d not in survivor]
+    col = {d: i for i, d in enumerate(keep)}
+    rows = np.arange(len(dofs))
+    cols = np.array([col[survivor.get(d, d)] for d in dofs], dtype=int)
+    return sp.csr_array((np.ones(len(dofs)), (rows, cols)), shape=(len(dofs), len(keep))), keep
 
 
 def guyan(model: LinearModel, masters: Sequence[str]) -> LinearModel:
@@ -147,6 +153,7 @@ def reduce_keep(model: LinearModel, keep: Sequence[str],
 
 def reduce_to_depth(model: LinearModel, depth: Depth) -> LinearModel:
     """The model at a depth: ties applied, then Guyan condensation to ``keep``."""
+    _refuse_dependent(model, depth)
     check_depths(depth, model.dofs)
     tied = tie(model, depth.tie)
     masters: list[str] = []
@@ -154,6 +161,22 @@ def reduce_to_depth(model: LinearModel, depth: Depth) -> LinearModel:
         masters.extend(d for d in match_dofs(pattern, tied.dofs) if d not in masters)
     out = guyan(tied, masters)
     return out.with_matrices(name=f"{model.name} [{depth.name}]")
+
+
+def _refuse_dependent(model: LinearModel, depth: Depth) -> None:
+    """A depth that keeps a DOF the joints made dependent: say so, with the coordinates
+    that remain independent on that body."""
+    if model.parent is None or full_model(model).joints is None:
+        return
+    wheres = depth.keep_where or (depth.where,) * len(depth.keep)
+    for pattern, where in zip(depth.keep, wheres):
+        if match_dofs(pattern, model.dofs) or not match_dofs(pattern, model.parent.dofs):
+            continue
+        body = pattern.rpartition(".")[0]
+        own = [d for d in model.dofs if d.rpartition(".")[0] == body]
+        tip = f"; {body}'s independent coordinates: {', '.join(own)}" if own else ""
+        raise InputError(f'"{pattern}" is fixed by the joints (a dependent coordinate of '
+                         f"the linkage), so a depth cannot keep it{tip}", where)
 
 
 def full_model(model: LinearModel) -> LinearModel:
