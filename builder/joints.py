@@ -45,7 +45,7 @@ import scipy.sparse as sp
 
 from .elements.joint import constrained_directions, direction_text, is_joint
 
-__all__ = ["Elimination", "Redundancy", "Mechanism", "joint_rows", "eliminate",
+__all__ = ["Elimination", "Redundancy", "Mechanism", "joint_rows", "eliminate", "hub_dofs",
            "find_mechanisms", "REDUNDANT", "NEARLY"]
 
 #: A unit constraint row whose part outside the span of earlier rows is below this
@@ -53,6 +53,8 @@ __all__ = ["Elimination", "Redundancy", "Mechanism", "joint_rows", "eliminate",
 REDUNDANT = 1e-9
 #: ... and below this it is nearly redundant (kept, reported).
 NEARLY = 1e-5
+#: A stand-in end for ground ends: no DOF columns.
+_NOWHERE = type("_Nowhere", (), {"kind": "ground", "node": "ground"})()
 #: A body moves in a mechanism when it holds this share of the motion's kinetic energy.
 MOVING_SHARE = 0.01
 
@@ -144,31 +146,39 @@ def joint_rows(assembly: Any, layout: Any, n: int
     cc: list[np.ndarray] = []
     vv: list[np.ndarray] = []
     names: list[tuple[str, str]] = []
-    for link in assembly.links.values():
-        if not is_joint(link):
-            continue
-        p = np.asarray(link.a.at, dtype=float)[None]
+    joints = [lk for lk in assembly.links.values() if is_joint(lk)]
+    if not joints:
+        return sp.csr_array((0, n)), names
+    points = np.array([lk.a.at for lk in joints], dtype=float).reshape(-1, 3)
+    ends = {}
+    for side in ("a", "b"):
+        es = [getattr(lk, side) for lk in joints]
+        cols, maps, _ = layout.ends([e if e.kind == "body" else _NOWHERE for e in es], points)
+        ends[side] = (cols, maps)
+    for li, link in enumerate(joints):
         dirs = constrained_directions(link.type, link.props)
         E = np.zeros((len(dirs), 6))
         for i, (kind, d) in enumerate(dirs):
             E[i, :3] = d if kind == "t" else 0.0
             E[i, 3:] = d if kind == "r" else 0.0
-        parts = []
-        for end, sign in ((link.a, -1.0), (link.b, 1.0)):
-            if end.kind != "body":
-                continue
-            cols, maps, _ = layout.ends([end], p)
-            on = cols[0] >= 0
-            parts.append((cols[0][on], sign * (E @ maps[0])[:, on]))
+        c_parts, v_parts = [], []
+        for side, sign in (("a", -1.0), ("b", 1.0)):
+            cols, maps = ends[side][0][li], ends[side][1][li]
+            on = cols >= 0
+            if on.any():
+                c_parts.append(cols[on])
+                v_parts.append(sign * (E @ maps)[:, on])
+        if not c_parts:
+            continue
+        c = np.concatenate(c_parts)
+        V = np.hstack(v_parts)
         for i, (kind, d) in enumerate(dirs):
-            c = np.concatenate([pc for pc, _ in parts])
-            v = np.concatenate([pv[i] for _, pv in parts])
-            keep = np.abs(v) > 0
+            keep = np.abs(V[i]) > 0
             if not keep.any():
                 continue
             rr.append(np.full(int(keep.sum()), len(names)))
             cc.append(c[keep])
-            vv.append(v[keep])
+            vv.append(V[i, keep])
             names.append((link.name, direction_text(kind, d)))
     if not names:
         return sp.csr_array((0, n)), names
@@ -194,8 +204,15 @@ def slave_preference(assembly: Any, dofs: Sequence[str]) -> np.ndarray:
 
 
 def eliminate(A: sp.csr_array, names: Sequence[tuple[str, str]],
-              preference: np.ndarray) -> Elimination:
-    """Master-slave elimination of A q = 0 (see the module notes)."""
+              preference: np.ndarray, hub: np.ndarray | None = None) -> Elimination:
+    """Master-slave elimination of A q = 0 (see the module notes).
+
+    ``hub`` marks DOFs of bodies that many joints share (the sprung body of a car):
+    groups are found without them, so that each corner is its own small dense
+    problem, and a group takes its slaves among its own DOFs. A group that cannot
+    (its rows need a hub DOF to be independent, or to be eliminated) is solved
+    together with every other such group and the rows on hub DOFs alone.
+    """
     from scipy.sparse.csgraph import connected_components
 
     A = sp.csr_array(A)
@@ -204,28 +221,52 @@ def eliminate(A: sp.csr_array, names: Sequence[tuple[str, str]],
     if c == 0:
         return Elimination(sp.eye_array(n, format="csr"), A, np.arange(n), np.zeros(0, int),
                            tuple(names), (), (), joints)
-    pattern = sp.csr_array((np.ones(A.nnz), A.indices, A.indptr), shape=A.shape)
-    ncomp, label = connected_components(pattern.T @ pattern, directed=False)
-    row_comp = label[A.indices[A.indptr[:-1]]]
+    hub = np.zeros(n, dtype=bool) if hub is None else np.asarray(hub, dtype=bool)
+    Acsr = A.tocsr()
+    local = sp.csr_array(Acsr @ sp.diags_array((~hub).astype(float)))
+    local.eliminate_zeros()
+    pattern = sp.csr_array((np.ones(local.nnz), local.indices, local.indptr), shape=A.shape)
+    _, label = connected_components(pattern.T @ pattern, directed=False)
+    has_local = np.diff(local.indptr) > 0
+    row_comp = np.full(c, -1)
+    row_comp[has_local] = label[local.indices[local.indptr[:-1][has_local]]]
     slaves: list[int] = []
     blocks: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []   # (slaves, masters, X)
     kept_rows: list[int] = []
     redundant: list[Redundancy] = []
     nearly: list[str] = []
-    Acsr = A.tocsr()
-    for comp in np.unique(row_comp):
-        rows = np.flatnonzero(row_comp == comp)
-        cols = np.flatnonzero(label == comp)
-        B = Acsr[rows][:, cols].toarray()
+    merged_rows = [np.flatnonzero(row_comp < 0)]
+    order = np.argsort(row_comp, kind="stable")
+    starts = np.searchsorted(row_comp[order], np.unique(row_comp[row_comp >= 0]))
+    bounds = list(zip(starts, [*starts[1:], c]))
+    for lo, hi in bounds:
+        rows = np.sort(order[lo:hi])
+        cols, B = _dense_block(Acsr, rows)
+        own = cols[~hub[cols]]
+        own_at = np.flatnonzero(~hub[cols])
+        probe_red: list[Redundancy] = []
+        probe_near: list[str] = []
+        ind = _independent_rows(B[:, own_at], rows, names, probe_red, probe_near)
+        if probe_red or probe_near:
+            merged_rows.append(rows)             # needs the hub DOFs: solved together
+            continue
+        s_at = own_at[_pick_slaves(B[:, own_at], preference[own])]
+        m_at = np.setdiff1d(np.arange(len(cols)), s_at)
+        X = np.linalg.solve(B[:, s_at], B[:, m_at])
+        blocks.append((cols[s_at], cols[m_at], _clean(X)))
+        slaves.extend(cols[s_at])
+        kept_rows.extend(rows[ind])
+    rows = np.sort(np.concatenate(merged_rows))
+    if rows.size:
+        cols, B = _dense_block(Acsr, rows)
         ind = _independent_rows(B, rows, names, redundant, nearly)
         kept_rows.extend(rows[ind])
         Bi = B[ind]
-        s_local = _pick_slaves(Bi, preference[cols])
-        m_local = np.setdiff1d(np.arange(len(cols)), s_local)
-        X = np.linalg.solve(Bi[:, s_local], Bi[:, m_local])
-        X[np.abs(X) < 1e-14 * max(1.0, float(np.abs(X).max(initial=0.0)))] = 0.0
-        blocks.append((cols[s_local], cols[m_local], X))
-        slaves.extend(cols[s_local])
+        s_at = _pick_slaves(Bi, preference[cols])
+        m_at = np.setdiff1d(np.arange(len(cols)), s_at)
+        X = np.linalg.solve(Bi[:, s_at], Bi[:, m_at])
+        blocks.append((cols[s_at], cols[m_at], _clean(X)))
+        slaves.extend(cols[s_at])
     slave_arr = np.array(sorted(slaves), dtype=int)
     masters = np.setdiff1d(np.arange(n), slave_arr)
     col_of = -np.ones(n, dtype=int)
@@ -245,58 +286,91 @@ def eliminate(A: sp.csr_array, names: Sequence[tuple[str, str]],
                        tuple(redundant), tuple(nearly), joints)
 
 
+def _dense_block(A: sp.csr_array, rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Rows of a CSR matrix as (the columns they use, dense rows x columns)."""
+    starts, ends = A.indptr[rows], A.indptr[rows + 1]
+    counts = ends - starts
+    take = np.repeat(starts - np.cumsum(counts) + counts, counts) + np.arange(counts.sum())
+    idx, data = A.indices[take], A.data[take]
+    cols = np.unique(idx)
+    out = np.zeros((len(rows), len(cols)))
+    np.add.at(out, (np.repeat(np.arange(len(rows)), counts), np.searchsorted(cols, idx)), data)
+    return cols, out
+
+
+def _clean(X: np.ndarray) -> np.ndarray:
+    """X with round-off entries (below 1e-14 of its largest) set to zero."""
+    X[np.abs(X) < 1e-14 * max(1.0, float(np.abs(X).max(initial=0.0)))] = 0.0
+    return X
+
+
+def hub_dofs(assembly: Any, dofs: Sequence[str], joints_per_hub: int = 4) -> np.ndarray:
+    """DOFs of the bodies more than ``joints_per_hub`` joints end on (a bool mask)."""
+    count: dict[str, int] = {}
+    for lk in assembly.links.values():
+        if is_joint(lk):
+            for e in (lk.a, lk.b):
+                if e.kind == "body":
+                    count[e.node] = count.get(e.node, 0) + 1
+    return np.array([count.get(d.rpartition(".")[0], 0) > joints_per_hub for d in dofs])
+
+
 def _independent_rows(B: np.ndarray, rows: np.ndarray, names: Sequence[tuple[str, str]],
                       redundant: list[Redundancy], nearly: list[str]) -> np.ndarray:
-    """Rows of B (in order) independent of the earlier ones; the others reported."""
-    scale = np.linalg.norm(B, axis=1)
-    U = B / scale[:, None]
-    basis: list[np.ndarray] = []
+    """Rows of B (in order) independent of the earlier ones; the others reported.
+
+    Each row is scaled to unit length; what it adds to the span of the rows before
+    it is its residual after modified Gram-Schmidt in file order (each accepted row's
+    direction projected out of all later rows at once, twice for round-off)."""
+    U = B / np.linalg.norm(B, axis=1)[:, None]
+    res = U.copy()
+    size = np.zeros(len(U))
+    for i in range(len(U)):
+        size[i] = float(np.linalg.norm(res[i]))
+        if size[i] >= REDUNDANT:
+            q = res[i] / size[i]
+            for _ in range(2):
+                res[i + 1:] -= np.outer(res[i + 1:] @ q, q)
     keep: list[int] = []
-    for i, u in enumerate(U):
-        res = u.copy()
-        for _ in range(2):                       # Gram-Schmidt, twice for round-off
-            for q in basis:
-                res -= (q @ res) * q
-        size = float(np.linalg.norm(res))
+    for i in range(len(U)):
         joint, comp = names[rows[i]]
-        if size < REDUNDANT:
-            coef = np.linalg.lstsq(U[keep].T, u, rcond=None)[0] if keep else np.zeros(0)
+        if size[i] < REDUNDANT:
+            coef = np.linalg.lstsq(U[keep].T, U[i], rcond=None)[0] if keep else np.zeros(0)
             big = np.abs(coef) > 1e-8 * max(float(np.abs(coef).max(initial=0.0)), 1e-300)
             loop = tuple(dict.fromkeys([names[rows[keep[k]]][0] for k in np.flatnonzero(big)]
                                        + [joint]))
             redundant.append(Redundancy(joint, comp, loop))
             continue
-        if size < NEARLY:
+        if size[i] < NEARLY:
             nearly.append(f"joint {joint}: the constraint on {comp} is nearly redundant "
-                          f"(independent by {size:.1e} only): the joints lock a motion "
+                          f"(independent by {size[i]:.1e} only): the joints lock a motion "
                           "their geometry almost allows; check the axes and points")
-        basis.append(res / size)
         keep.append(i)
     return np.array(keep, dtype=int)
 
 
 def _pick_slaves(B: np.ndarray, preference: np.ndarray) -> np.ndarray:
     """r columns of B (r x k, rank r) forming a well-conditioned square block, taken
-    greedily in order of ``preference`` (lowest first)."""
+    greedily in order of ``preference`` (lowest first): a column is taken when what
+    it adds to the span of those taken is above the pass's threshold."""
     r = B.shape[0]
     norms = np.linalg.norm(B, axis=0)
     order = [j for j in np.argsort(preference, kind="stable") if norms[j] > 0]
+    res = B[:, order] / norms[order]          # residuals against the columns taken
     chosen: list[int] = []
-    basis: list[np.ndarray] = []
+    taken = np.zeros(len(order), dtype=bool)
     for tol in (0.3, 1e-2, 1e-6, 1e-12):
-        for j in order:
+        for k in range(len(order)):
             if len(chosen) == r:
                 break
-            if j in chosen:
+            if taken[k]:
                 continue
-            res = B[:, j] / norms[j]
-            for _ in range(2):
-                for q in basis:
-                    res = res - (q @ res) * q
-            size = float(np.linalg.norm(res))
+            size = float(np.linalg.norm(res[:, k]))
             if size > tol:
-                chosen.append(j)
-                basis.append(res / size)
+                q = res[:, k] / size
+                res = res - np.outer(q, q @ res)
+                taken[k] = True
+                chosen.append(order[k])
         if len(chosen) == r:
             break
     return np.array(chosen, dtype=int)

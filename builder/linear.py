@@ -470,12 +470,12 @@ def _with_joints(root: LinearModel, layout: _Layout) -> LinearModel:
     T q. Its ``parent`` is the unconstrained ``root`` (so that body maps, sensors,
     pictures and labels expand through T as for any depth); redundancies and
     mechanisms are warnings of both."""
-    from .joints import eliminate, find_mechanisms, joint_rows, slave_preference
+    from .joints import eliminate, find_mechanisms, hub_dofs, joint_rows, slave_preference
     from .reduce import transform
 
     asm = root.assembly
     A, names = joint_rows(asm, layout, root.n)
-    elim = eliminate(A, names, slave_preference(asm, root.dofs))
+    elim = eliminate(A, names, slave_preference(asm, root.dofs), hub_dofs(asm, root.dofs))
     T = elim.T
     Tt = T.T.tocsr()
     Kc, Mc = _symmetric(Tt @ root.K @ T), _symmetric(Tt @ root.M @ T)
