@@ -8,6 +8,7 @@ import pytest
 
 from builder.analysis.modes import compute_modes
 from builder.analysis.suspension import suspension_figures
+from builder.errors import InputError
 from builder.linear import assemble
 from builder.load import load_text
 
@@ -175,3 +176,33 @@ def test_corner_of_a_lumped_car_is_its_spring(run_cli):
     assert fl.effective_mass == pytest.approx(36.0, rel=1e-12)
     assert next(lk for lk in fl.links if lk.link == "susp_fl").ratio == \
         pytest.approx(1.0, rel=1e-12)
+
+
+def test_jointed_car_runs_through_every_analysis(run_cli):
+    # The linkage car (invented) through the downstream commands; the lumped-corner
+    # depth keeps the wheel carriers' z, which the joints leave independent.
+    from conftest import ASSEMBLIES
+
+    path = ASSEMBLIES / "compact_car_linkage.yaml"
+    for args in (("modes", path, "--depth", "lumped_corners"),
+                 ("frf", path, "--from", "road.fl", "--to", "floor_front", "--points", "20"),
+                 ("ride", path, "--road", "C", "--speed", "60 km/h", "--json"),
+                 ("bump", path, "--height", "30 mm", "--length", "0.5 m", "--speed", "30 km/h"),
+                 ("check", path),
+                 ("sweep", path, "--depth", "lumped_corners", "--vary",
+                  "k_spring_front=60kN/m..90kN/m:2", "--modes", "2", "--no-progress")):
+        code, out, err = run_cli(*args)
+        assert code == 0, (args[0], err)
+    code, out, err = run_cli("modes", path, "--keep", "body.z,knuckle_fl.x")
+    assert code == 2 and "fixed by the joints" in err
+
+
+def test_solid_axle_corners_are_named_not_computed():
+    # Two road points under one carrier (a solid axle): said so, not computed. The
+    # trailing-arm car with every right-hand link moved onto the left arm: one arm
+    # (a beam axle) on two coaxial hinges, carrying both springs and both tyres.
+    text = trailing_arm_car().replace("  arm_r:", "  unused:").replace("arm_r", "arm_l")
+    model = assemble(load_text(text))
+    assert any("redundant" in w for w in model.warnings)
+    with pytest.raises(InputError, match="solid axle"):
+        suspension_figures(model)

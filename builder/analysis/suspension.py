@@ -194,7 +194,8 @@ class SuspensionFigures:
             rc = "lines parallel (none)" if a.roll_centre is None else (
                 f"{number(a.roll_centre[1], '.3f')} m high at "
                 f"y = {number(a.roll_centre[0], '.3f')} m")
-            lines.append(f"roll centre, {a.name} axle ({', '.join(a.corners)}): {rc}")
+            axle = a.name if a.name.endswith("axle") else f"{a.name} axle"
+            lines.append(f"roll centre, {axle} ({', '.join(a.corners)}): {rc}")
         if self.pitch_centre is not None:
             lines.append(f"pitch centre: x = {number(self.pitch_centre[0], '.3f')} m, "
                          f"z = {number(self.pitch_centre[1], '.3f')} m")
@@ -227,9 +228,19 @@ def suspension_figures(model: LinearModel) -> SuspensionFigures:
     if skipped:
         notes.append(f"no suspension at {', '.join(skipped)}: the tyre stands under the "
                      f"sprung body {sprung}")
+    carriers: dict[str, list[str]] = {}
+    for road, carrier in corners.items():
+        carriers.setdefault(carrier, []).append(road)
+    for carrier, roads in carriers.items():
+        if len(roads) > 1:           # a solid axle: one carrier under several road points
+            notes.append(f"{', '.join(roads)} stand under one wheel carrier ({carrier}, a "
+                         "solid axle): per-wheel figures of a solid axle are not computed "
+                         "yet (its modes and responses are)")
+            for road in roads:
+                del corners[road]
     if not corners:
-        raise InputError(f"no corner with a suspension: every tyre stands under {sprung}",
-                         Where(asm.source, 0, "links"))
+        raise InputError(f"no corner with a suspension of its own: every tyre stands under "
+                         f"{sprung} or a solid axle", Where(asm.source, 0, "links"))
     members = _linkages(asm, corners, sprung)
 
     def point_map(body: str, at: np.ndarray) -> np.ndarray:
@@ -269,11 +280,12 @@ def suspension_figures(model: LinearModel) -> SuspensionFigures:
         notes.append("part of the travel meets no stiffness (a free linkage coordinate "
                      "without the tyres): its figures take the smallest such motion")
     y = E @ q
+    tyres = {name for links in by_road.values() for name, _b, _lm in links}
     wheel_force = dict(zip(corners, forces[m - len(corners):]))
     out = []
     for road, carrier in corners.items():
         out.append(_corner(root, asm, road, carrier, members[road], y, centres[road],
-                           contacts[road], float(wheel_force[road]), by_road[road]))
+                           contacts[road], float(wheel_force[road]), by_road[road], tyres))
     moving = _outside_motion(root, asm, members, sprung, y)
     if moving:
         notes.append("bodies outside the corners move in the travel (their mass is in "
@@ -322,13 +334,12 @@ def _outside_motion(root: LinearModel, asm: Any, members: dict[str, tuple[str, .
 
 def _corner(root: LinearModel, asm: Any, road: str, carrier: str, bodies: tuple[str, ...],
             y: np.ndarray, wc: np.ndarray, contact: np.ndarray, force: float,
-            tyres: list[tuple[str, str, Any]]) -> CornerKinematics:
+            tyres: list[tuple[str, str, Any]], tyre_names: set[str]) -> CornerKinematics:
     kt = 0.0
     for _name, _body, lm in tyres:
         e = lm.Dr.sum(axis=1)
         kt += float(e @ (lm.stiffness * e))
     ride = 1.0 / (1.0 / force + 1.0 / kt) if force > 0 and kt > 0 else None
-    tyre_names = {t[0] for t in tyres}
     links = []
     members = set(bodies)
     for name, link in asm.links.items():
