@@ -269,18 +269,25 @@ def eliminate(A: sp.csr_array, names: Sequence[tuple[str, str]],
         slaves.extend(cols[s_at])
     slave_arr = np.array(sorted(slaves), dtype=int)
     masters = np.setdiff1d(np.arange(n), slave_arr)
-    col_of = -np.ones(n, dtype=int)
-    col_of[masters] = np.arange(len(masters))
-    r = [masters]
-    cl = [np.arange(len(masters))]
-    v = [np.ones(len(masters))]
+    # q = S q: masters map to themselves, slaves to -X over their group's other DOFs; a
+    # group's hub DOF that the joint group took as a slave is itself resolved by S, so
+    # S applied until no slave column is left (twice at most) gives T = S[:, masters]
+    r, cl, v = [masters], [masters], [np.ones(len(masters))]
     for s_idx, m_idx, X in blocks:
         i, j = np.nonzero(X)
         r.append(s_idx[i])
-        cl.append(col_of[m_idx[j]])
+        cl.append(m_idx[j])
         v.append(-X[i, j])
-    T = sp.csr_array((np.concatenate(v), (np.concatenate(r), np.concatenate(cl))),
-                     shape=(n, len(masters)))
+    S = sp.csr_array((np.concatenate(v), (np.concatenate(r), np.concatenate(cl))),
+                     shape=(n, n))
+    is_slave = np.zeros(n, dtype=bool)
+    is_slave[slave_arr] = True
+    for _ in range(4):
+        if not np.any(is_slave[S.tocoo().col]):
+            break
+        S = sp.csr_array(S @ S)
+    T = sp.csr_array(S[:, masters])
+    T.eliminate_zeros()
     A_ind = Acsr[np.array(sorted(kept_rows), dtype=int)]
     return Elimination(T, sp.csr_array(A_ind), masters, slave_arr, tuple(names),
                        tuple(redundant), tuple(nearly), joints)
