@@ -21,6 +21,9 @@ __all__ = ["main", "COMMANDS"]
 COMMANDS: dict[str, tuple[str, str]] = {
     "check": ("builder.commands.check", "load a file and print the model checks"),
     "modes": ("builder.commands.modes", "natural frequencies, damping and mode labels"),
+    "corner": ("builder.commands.corner",
+               "suspension figures per corner: motion ratios, wheel and ride rates, "
+               "unsprung mass, instant, roll and pitch centres"),
     "ladder": ("builder.commands.ladder", "compare every depth of the model with the full one"),
     "frf": ("builder.commands.frf", "frequency response from road inputs to sensors"),
     "ride": ("builder.commands.ride", "response to an ISO 8608 road at a speed, ISO 2631-1"),

@@ -80,6 +80,11 @@ class LinearModel:
     expansion_input: Any = None
     name: str = ""
     warnings: tuple[str, ...] = ()
+    #: joint elimination (builder.joints.Elimination) of a jointed model: its DOFs are
+    #: the independent coordinates, ``parent`` the unconstrained model, ``expansion`` T
+    joints: Any = None
+    #: the model depths start from when it differs from ``parent`` (the jointed model)
+    base: LinearModel | None = None
 
     @property
     def n(self) -> int:
@@ -416,6 +421,8 @@ def _assemble(assembly: Assembly) -> LinearModel:
     for link in assembly.links.values():
         if link.type not in LINK_TYPES:
             raise InputError(f'unknown link type "{link.type}"', link.where)
+        if getattr(LINK_TYPES[link.type], "joint", False):
+            continue                          # eliminated below, no stiffness
         groups.setdefault(link.type, []).append(link)
     comps = _Components(n, nr)
     others = _ElementSum(n, nr)
@@ -436,7 +443,8 @@ def _assemble(assembly: Assembly) -> LinearModel:
             for key in ("k", "c", "h")}
     for B in bmat.values():
         B.eliminate_zeros()
-    links = _LinkMaps(list(assembly.links), G, R, comps, others.link_maps, n, nr)
+    elastic = [name for name, lk in assembly.links.items() if lk.type in groups]
+    links = _LinkMaps(elastic, G, R, comps, others.link_maps, n, nr)
     positions = np.array([assembly.road[r].at for r in assembly.road]).reshape(-1, 3)
     base = LinearModel(
         dofs=dofs, M=_symmetric(_mass_matrix(assembly, layout, n) + extra["m"]),
@@ -451,7 +459,34 @@ def _assemble(assembly: Assembly) -> LinearModel:
     if warnings:
         base = replace(base, warnings=warnings,
                        assembly=assembly.replace(warnings=assembly.warnings + warnings))
-    return _with_sensors(base, base.assembly)
+    base = _with_sensors(base, base.assembly)
+    if len(elastic) < len(assembly.links):
+        return _with_joints(base, layout)
+    return base
+
+
+def _with_joints(root: LinearModel, layout: _Layout) -> LinearModel:
+    """The jointed model: the joints' constraints eliminated (builder.joints), q_root =
+    T q. Its ``parent`` is the unconstrained ``root`` (so that body maps, sensors,
+    pictures and labels expand through T as for any depth); redundancies and
+    mechanisms are warnings of both."""
+    from .joints import eliminate, find_mechanisms, hub_dofs, joint_rows, slave_preference
+    from .reduce import transform
+
+    asm = root.assembly
+    A, names = joint_rows(asm, layout, root.n)
+    elim = eliminate(A, names, slave_preference(asm, root.dofs), hub_dofs(asm, root.dofs))
+    T = elim.T
+    Tt = T.T.tocsr()
+    Kc, Mc = _symmetric(Tt @ root.K @ T), _symmetric(Tt @ root.M @ T)
+    elim = replace(elim, mechanisms=find_mechanisms(Kc, Mc, T, elim.A, root.K, root.M, asm, layout))
+    notes = elim.warnings()
+    if notes:
+        root = replace(root, warnings=root.warnings + notes,
+                       assembly=asm.replace(warnings=asm.warnings + notes))
+    dofs = [root.dofs[i] for i in elim.masters]
+    out = transform(root, T, None, dofs)
+    return replace(out, joints=elim, base=None, name=root.name)
 
 
 class _ElementSum:

@@ -331,6 +331,9 @@ def _sensors(node: Node | None, bodies: Mapping[str, Body], links: Mapping[str, 
                 raise f["link"].error(_unknown("link", target, links))
             measure = f["measure"].choice(("deflection", "force"))
             link = links[target]
+            if getattr(LINK_TYPES.get(link.type), "joint", False):
+                raise f["link"].error(f'"{target}" is a {link.type} joint: it has no '
+                                      "deflection; measure a body point or a compliant link")
             comp, axis = 0, "axial"
             if link.type == "bushing":
                 comp, axis = 2, "z"

@@ -34,8 +34,8 @@ from .errors import InputError, Where
 from .linear import LinearModel
 from .load import check_depths, match_dofs
 
-__all__ = ["transform", "tie", "guyan", "component_modes", "modal_name", "reduce_to_depth",
-           "reduce_keep", "full_model"]
+__all__ = ["transform", "tie", "tie_map", "guyan", "component_modes", "modal_name",
+           "reduce_to_depth", "reduce_keep", "full_model"]
 
 
 def transform(model: LinearModel, T: sp.csr_array, G: sp.csr_array | None,
@@ -55,6 +55,7 @@ def transform(model: LinearModel, T: sp.csr_array, G: sp.csr_array | None,
         return ((out + out.T) * 0.5).tocsr()
 
     parent = model.parent if model.parent is not None else model
+    base = model if model.parent is None or model.joints is not None else model.base
     if model.parent is not None:
         expansion = sp.csr_array(model.expansion @ T)
         expansion_input = sp.csr_array(model.expansion @ G + model.expansion_input)
@@ -70,7 +71,8 @@ def transform(model: LinearModel, T: sp.csr_array, G: sp.csr_array | None,
         Sa=sp.csr_array(model.Sa @ T), Sh=sp.csr_array(model.Sh @ T),
         Dr=sp.csr_array(model.Dr + model.Sd @ G), Dv=sp.csr_array(model.Dv + model.Sv @ G),
         Dh=sp.csr_array(model.Dh + model.Sh @ G),
-        parent=parent, expansion=expansion, expansion_input=expansion_input)
+        parent=parent, expansion=expansion, expansion_input=expansion_input,
+        base=base, joints=None)
 
 
 def tie(model: LinearModel, groups: Iterable[Sequence[str]]) -> LinearModel:
@@ -78,13 +80,20 @@ def tie(model: LinearModel, groups: Iterable[Sequence[str]]) -> LinearModel:
     groups = [list(g) for g in groups]
     if not groups:
         return model
-    survivor = {d: g[0] for g in groups for d in g[1:]}
-    keep = [d for d in model.dofs if d not in survivor]
-    col = {d: i for i, d in enumerate(keep)}
-    rows = np.arange(model.n)
-    cols = np.array([col[survivor.get(d, d)] for d in model.dofs])
-    T = sp.csr_array((np.ones(model.n), (rows, cols)), shape=(model.n, len(keep)))
+    T, keep = tie_map(model.dofs, groups)
     return transform(model, T, None, keep)
+
+
+def tie_map(dofs: Sequence[str], groups: Iterable[Sequence[str]]
+            ) -> tuple[sp.csr_array, list[str]]:
+    """The 0/1 map q = T q_tied of tie groups over ``dofs`` and the surviving DOFs."""
+    survivor = {d: g[0] for g in groups for d in g[1:]}
+    keep = [d for d in dofs if d not in survivor]
+    col = {d: i for i, d in enumerate(keep)}
+    rows = np.arange(len(dofs))
+    cols = np.array([col[survivor.get(d, d)] for d in dofs], dtype=int)
+    return sp.csr_array((np.ones(len(dofs)), (rows, cols)), shape=(len(dofs), len(keep))), keep
+
 
 
 def _static_basis(model: LinearModel, masters: Sequence[str]
@@ -209,6 +218,7 @@ def reduce_keep(model: LinearModel, keep: Sequence[str],
 def reduce_to_depth(model: LinearModel, depth: Depth) -> LinearModel:
     """The model at a depth: ties applied, then Guyan condensation to ``keep`` (with
     the depth's fixed-interface ``modes``, :func:`component_modes`)."""
+    _refuse_dependent(model, depth)
     check_depths(depth, model.dofs)
     tied = tie(model, depth.tie)
     masters: list[str] = []
@@ -219,6 +229,26 @@ def reduce_to_depth(model: LinearModel, depth: Depth) -> LinearModel:
     return out.with_matrices(name=f"{model.name} [{depth.name}]")
 
 
+def _refuse_dependent(model: LinearModel, depth: Depth) -> None:
+    """A depth that keeps a DOF the joints made dependent: say so, with the coordinates
+    that remain independent on that body."""
+    if model.parent is None or full_model(model).joints is None:
+        return
+    wheres = depth.keep_where or (depth.where,) * len(depth.keep)
+    for pattern, where in zip(depth.keep, wheres):
+        if match_dofs(pattern, model.dofs) or not match_dofs(pattern, model.parent.dofs):
+            continue
+        body = pattern.rpartition(".")[0]
+        own = [d for d in model.dofs if d.rpartition(".")[0] == body]
+        tip = f"; {body}'s independent coordinates: {', '.join(own)}" if own else ""
+        raise InputError(f'"{pattern}" is fixed by the joints (a dependent coordinate of '
+                         f"the linkage), so a depth cannot keep it{tip}", where)
+
+
 def full_model(model: LinearModel) -> LinearModel:
-    """The unreduced model a reduced one came from (itself if not reduced)."""
-    return model.parent if model.parent is not None else model
+    """The unreduced model a reduced one came from (itself if not reduced); for a
+    jointed assembly the constrained model (its joints eliminated), not the
+    unconstrained ``parent``."""
+    if model.parent is None or model.joints is not None:
+        return model
+    return model.base if model.base is not None else model.parent

@@ -378,8 +378,14 @@ def _check_model(model: LinearModel) -> ModelChecks:
                         "zero-frequency modes")
     elif n:
         q = model.static_response(GRAVITY)
-        static = _static(model, q)
-        corners = corner_figures(model, q)
+        if model.joints is not None:     # links read the body DOFs the joints expand to
+            static = _static(model, np.asarray(model.expansion @ q).ravel())
+            corners = None
+            warnings.append("corner loads and rates of a jointed model: see lumpgraph corner "
+                            "(the linkage's motion ratios, wheel and ride rates)")
+        else:
+            static = _static(model, q)
+            corners = corner_figures(model, q)
         if corners is not None:
             warnings += _corner_warnings(corners)
         if corners is not None and corners.imbalance > _BALANCE:

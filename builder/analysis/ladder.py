@@ -125,7 +125,9 @@ def compute_ladder(model: LinearModel, depths: dict[str, Depth] | None = None) -
     proposed = not (depths or asm.depths)
     depths = depths or asm.depths or proposed_depths(asm)
     full = compute_modes(model)
-    full_shapes = full.shapes
+    # shapes compared on the unreduced DOFs (a jointed model's body DOFs: its parent)
+    full_shapes = np.asarray(model.expansion @ full.shapes) if model.parent is not None \
+        else full.shapes
     rungs = []
     notes = []
     for depth in depths.values():

@@ -1001,7 +1001,7 @@ def file_family(path: str | os.PathLike[str], names: Sequence[str],
     """
     from ..linear import assemble
     from ..load import load_assembly, match_dofs
-    from ..reduce import reduce_keep, reduce_to_depth, tie
+    from ..reduce import reduce_keep, reduce_to_depth, tie_map
     path = os.fspath(path)
     asm = load_assembly(path)
     params = dict(asm.parameters)
@@ -1029,10 +1029,10 @@ def file_family(path: str | os.PathLike[str], names: Sequence[str],
         else:
             reduced = reduce_keep(full, list(keep))
             patterns, ties = tuple(keep), ()
-        tied = tie(full, ties)
-        T = np.eye(full.n) if tied.parent is None else tied.expansion.toarray()
-        mset = {x for p in patterns for x in match_dofs(p, tied.dofs)}
-        masters = np.array([i for i, x in enumerate(tied.dofs) if x in mset], dtype=int)
+        T_tie, tied_dofs = tie_map(full.dofs, [list(g) for g in ties])
+        T = T_tie.toarray()
+        mset = {x for p in patterns for x in match_dofs(p, tied_dofs)}
+        masters = np.array([i for i, x in enumerate(tied_dofs) if x in mset], dtype=int)
         fam = AffineFamily(names, fam.nominal, fam.K0, fam.dK, fam.M0, fam.dM,
                            reduced.dofs, (T, masters))
         Kr, Mr = fam.matrices(p0[None, :])

@@ -28,7 +28,7 @@ from ..quantities import Quantity
 from ..yamlnodes import Node
 
 __all__ = ["ElementMatrices", "ComponentBatch", "LinkType", "LINK_TYPES", "register_link_type",
-           "local_frame", "parse_frame", "parse_axis"]
+           "local_frame", "parse_frame", "parse_axis", "gap_warning"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -175,8 +175,19 @@ def parse_frame(node: Node | None, parameters: Mapping[str, Quantity]) -> np.nda
         raise node.error(str(exc)) from None
 
 
+def gap_warning(a: Any, b: Any, where: Where, what: str) -> str:
+    """The warning for link ends more than 1 mm apart ("" otherwise): ``what`` acts at
+    end a's point."""
+    with np.errstate(over="ignore", invalid="ignore"):
+        gap = float(np.linalg.norm(np.asarray(a.at) - np.asarray(b.at)))
+    if gap > 1e-3:
+        return (f"{where.prefix()}: the ends are {gap * 1000:.0f} mm apart; "
+                f"the {what} acts at end a's point")
+    return ""
+
+
 def _register_builtins() -> None:
-    from . import beam, bushing, rigid, spring  # noqa: F401  (they register themselves)
+    from . import beam, bushing, joint, rigid, spring  # noqa: F401  (they register themselves)
 
 
 _register_builtins()

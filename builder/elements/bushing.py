@@ -16,7 +16,7 @@ import numpy as np
 from ..errors import Where
 from ..quantities import Quantity
 from ..yamlnodes import Node
-from . import ComponentBatch, ElementMatrices, parse_frame, register_link_type
+from . import ComponentBatch, ElementMatrices, gap_warning, parse_frame, register_link_type
 
 __all__ = ["Bushing", "bushing_props", "parse_six", "COMPONENTS", "STIFFNESS_DIMS",
            "DAMPING_DIMS"]
@@ -58,11 +58,9 @@ class Bushing:
         eta = fields["loss_factor"].quantity("dimensionless", parameters, "nonnegative") \
             if "loss_factor" in fields else 0.0
         props = bushing_props(frame, k, c, eta)
-        with np.errstate(over="ignore", invalid="ignore"):
-            gap = float(np.linalg.norm(np.asarray(a.at) - np.asarray(b.at)))
-        if gap > 1e-3:
-            props["warning"] = (f"{where.prefix()}: the ends are {gap * 1000:.0f} mm apart; "
-                                "the bushing acts at end a's point")
+        warning = gap_warning(a, b, where, "bushing")
+        if warning:
+            props["warning"] = warning
         return props
 
     def matrices(self, link: Any) -> ElementMatrices:

@@ -76,6 +76,7 @@ PALETTE: dict[str, Any] = {
     "beam": "#59636e",
     "link": "#59636e",
     "sensor": "#d9a441",
+    "joint": "#7d3f63",
     # amplitude ramp: (position, colour)
     "ramp": [(0.0, "#33445e"), (0.3, "#3a8a8c"), (0.62, "#e2c46b"), (1.0, "#c03f2b")],
 }
@@ -383,6 +384,8 @@ def _link_part(name: str, link, bodies: Mapping, index: Mapping, cgs: NDArray,
     pa = _end_point(link.a, guess_b, ground_z, bodies)
     pb = _end_point(link.b, pa, ground_z, bodies)
     length = float(np.linalg.norm(pb - pa))
+    if kind in _JOINT_GLYPHS:
+        return _joint_part(name, link, kind, pa, node_a, node_b, index, cgs, unit)
     drawn = {"spring": "spring", "bushing": "bushing", "mount": "bushing", "beam": "beam"}.get(
         kind, "link")
     if drawn in ("spring", "beam", "link") and length < 2 * unit:
@@ -413,6 +416,57 @@ def _link_part(name: str, link, bodies: Mapping, index: Mapping, cgs: NDArray,
             terms.append(Term(i, maps, weight))
     return Part(f"{drawn}:{name}", drawn, Geometry(points, faces),
                 PALETTE.get(drawn, PALETTE["link"]), terms, outline=outline, s=s)
+
+
+#: Joint types drawn as glyphs of their own at end a's point (moving with the mean
+#: of the two ends): a ball, a pin along the axis, a longer thin pin, a slider
+#: block along the axis, a cross of two pins, a plate across the normal.
+_JOINT_GLYPHS = ("spherical", "revolute", "cylindrical", "prismatic", "universal", "planar")
+
+
+def _joint_part(name: str, link, kind: str, at: NDArray, node_a: str, node_b: str,
+                index: Mapping, cgs: NDArray, unit: float) -> Part:
+    props = getattr(link, "props", {}) or {}
+    axis = np.asarray(props.get("axis", (0.0, 0.0, 1.0)), float)
+
+    def pin(direction: NDArray, half: float, radius: float) -> tuple[NDArray, NDArray]:
+        d = direction / np.linalg.norm(direction)
+        points, faces, _ = tube_mesh(np.linspace(at - half * d, at + half * d, 2), radius, 12)
+        return points, faces
+
+    if kind == "spherical":
+        points, faces = ellipsoid_mesh(at, np.full(3, 1.8 * unit), np.eye(3))
+    elif kind == "revolute":
+        points, faces = pin(axis, 3.0 * unit, 1.1 * unit)
+    elif kind == "cylindrical":
+        points, faces = pin(axis, 5.0 * unit, 0.7 * unit)
+    elif kind == "universal":
+        (p1, f1), (p2, f2) = (pin(np.asarray(u, float), 2.5 * unit, 0.8 * unit)
+                              for u in props.get("axes", ((1.0, 0, 0), (0, 1.0, 0))))
+        points, faces = np.vstack([p1, p2]), np.concatenate([f1, _shift(f2, len(p1))])
+    else:                          # prismatic: a slider block; planar: a thin plate
+        frame = _frame_along(axis)
+        half = (np.array([4.0, 1.2, 1.2]) if kind == "prismatic"
+                else np.array([0.3, 3.5, 3.5])) * unit
+        points, faces = box_mesh(at, half, frame)
+    s = np.full(len(points), 0.5)
+    terms = []
+    for node, weight in ((node_a, 1.0 - s), (node_b, s)):
+        if node in index:
+            i = index[node]
+            maps = np.broadcast_to(point_maps((at - cgs[i])[None, :]), (len(s), 3, 6))
+            terms.append(Term(i, maps, weight))
+    return Part(f"joint:{name}", "joint", Geometry(points, faces), PALETTE["joint"], terms,
+                s=s)
+
+
+def _frame_along(axis: NDArray) -> NDArray:
+    """Rows: ``axis`` and two unit normals (a right-handed set)."""
+    a = axis / np.linalg.norm(axis)
+    helper = np.array([0.0, 0.0, 1.0]) if abs(a[2]) < 0.9 else np.array([1.0, 0.0, 0.0])
+    b = np.cross(helper, a)
+    b /= np.linalg.norm(b)
+    return np.array([a, b, np.cross(a, b)])
 
 
 def _axes_parts(pv, origin: NDArray, length: float) -> list[Part]:
