@@ -5,11 +5,10 @@ Every panel comes from one plotter and the same fixed camera per view (see
 directly. Each panel's view is chosen from the mode's motion (side for
 pitch, front for roll, iso otherwise) unless one view is given for all.
 
-Captions are never cut off: each label is wrapped between words to the
-panel's width (:func:`~builder.render.modeshape.caption_columns`); when a
-label needs more than two lines at the panel's font, the font of the whole
-sheet shrinks (down to 6) until every label fits in two, and a label that
-still does not fit takes a third line (the scene moves down to make room).
+Each panel carries its caption band (:mod:`builder.render.look`); the band's
+text is wrapped between words to the panel's width and its font shrinks
+until the label fits. The legend of the amplitude cue is drawn once, in a
+strip under the grid.
 """
 
 from __future__ import annotations
@@ -24,6 +23,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ..errors import InputError
+from .look import caption_of, hex_rgb, legend_strip
 from .modeshape import (
     CAPTION_LINES,
     DEFAULT_SCALE,
@@ -39,9 +39,12 @@ from .modeshape import (
 )
 from .scene import PALETTE, Scene
 
-__all__ = ["sheet_layout", "render_sheet", "save_sheet", "mode_list", "sheet_captions"]
+__all__ = ["sheet_layout", "render_sheet", "save_sheet", "mode_list", "sheet_captions",
+           "sheet_renderer", "LEGEND_HEIGHT"]
 
 GAP = 4  # pixels between panels
+#: Height (pixels) of the legend strip under a sheet.
+LEGEND_HEIGHT = 34
 _SMALLEST_FONT = 6
 
 
@@ -93,39 +96,52 @@ def sheet_captions(modes: Sequence[Any], panel: tuple[int, int]) -> tuple[int, l
 
 def render_sheet(scene: Scene, dofs: Sequence[str], modes: Any, count: int = 12, *,
                  size: tuple[int, int] | None = None, view: str | None = None,
-                 scale: float = DEFAULT_SCALE, skip_rigid: bool = True) -> NDArray:
-    """Image (h x w x 3 uint8) of the lowest ``count`` modes in a grid.
+                 scale: float = DEFAULT_SCALE, skip_rigid: bool = True,
+                 renderer: ModeRenderer | None = None) -> NDArray:
+    """Image (h x w x 3 uint8) of the lowest ``count`` modes in a grid, the legend under it.
 
-    ``size`` is the whole sheet in pixels (default: 480 x 360 per panel);
-    rigid-body (zero-frequency) modes are left out unless ``skip_rigid`` is
-    false.
+    ``size`` is the whole sheet in pixels (default: 480 x 360 per panel and the
+    legend strip); rigid-body (zero-frequency) modes are left out unless
+    ``skip_rigid`` is false. ``renderer`` (a sheet renderer of this scene at
+    the panel size, see :func:`sheet_renderer`) reuses its plotter.
     """
     chosen = _selected(modes, count, skip_rigid)
     rows, cols = sheet_layout(len(chosen))
+    strip = LEGEND_HEIGHT
     if size is None:
-        size = (cols * 480 + (cols - 1) * GAP, rows * 360 + (rows - 1) * GAP)
+        size = (cols * 480 + (cols - 1) * GAP, rows * 360 + (rows - 1) * GAP + strip)
     width, height = size
+    strip = min(strip, max(0, height // 8))
     pw = (width - (cols - 1) * GAP) // cols
-    ph = (height - (rows - 1) * GAP) // rows
+    ph = (height - strip - (rows - 1) * GAP) // rows
     if pw < 32 or ph < 32:
         raise InputError(f"--size: {width}x{height} is too small for {len(chosen)} panels")
-    from .scene import import_pyvista
-
-    pv = import_pyvista()
     sheet = np.empty((height, width, 3), dtype=np.uint8)
-    sheet[:] = np.array(pv.Color(PALETTE["ground_edges"]).int_rgb, dtype=np.uint8)
-    font, titles = sheet_captions(chosen, (pw, ph))
-    lines = max(t.count("\n") + 1 for t in titles)
-    with ModeRenderer(scene, (pw, ph), scale=scale, font_size=font,
-                      title_lines=lines) as renderer:
+    sheet[:] = hex_rgb(PALETTE["ground_edges"]).astype(np.uint8)
+    own = renderer is None
+    if renderer is None or renderer.size != (pw, ph):
+        renderer = sheet_renderer(scene, (pw, ph), scale)
+        own = True
+    try:
         for k, mode in enumerate(chosen):
             field = mode_field(scene, dofs, _get(mode, "shape"))
             panel_view = view or choose_view(scene, dofs, mode)
-            image = renderer.draw(field, titles[k], panel_view)
+            image = renderer.draw(field, caption_of(mode, panel_view), panel_view)
             r, c = divmod(k, cols)
             y, x = r * (ph + GAP), c * (pw + GAP)
             sheet[y:y + ph, x:x + pw] = image
+    finally:
+        if own:
+            renderer.close()
+    if strip:
+        sheet[height - strip:] = legend_strip(width, strip)
     return sheet
+
+
+def sheet_renderer(scene: Scene, panel: tuple[int, int],
+                   scale: float = DEFAULT_SCALE) -> ModeRenderer:
+    """A renderer for sheet panels of ``panel`` (w, h) pixels (no legend in the band)."""
+    return ModeRenderer(scene, panel, scale=scale, legend=False, sheet=True)
 
 
 def save_sheet(scene: Scene, dofs: Sequence[str], modes: Any, path: str | os.PathLike,
