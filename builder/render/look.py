@@ -206,5 +206,20 @@ def _legend_mark(draw: Any, k: int, x: float, y: float, size: int) -> None:
 
 
 def legend_strip(width: int, height: int) -> NDArray:
-    """The legend alone, as a band (for under a sheet)."""
-    return draw_band(width, height, Caption(label="", view=""), legend=True)
+    """The legend alone, its entries in one row on the band's ink (under a sheet)."""
+    from PIL import Image, ImageDraw
+
+    image = Image.new("RGB", (width, height), tuple(int(v) for v in hex_rgb(PALETTE["band"])))
+    draw = ImageDraw.Draw(image)
+    size = max(8, int(0.42 * height))
+    font = _font(size)
+    dim = tuple(int(v) for v in hex_rgb(PALETTE["band_dim"]))
+    x = width - size
+    for k in range(len(LEGEND) - 1, -1, -1):
+        words = LEGEND[k]
+        x -= font.getlength(words)
+        draw.text((x, height / 2), words, font=font, fill=dim, anchor="lm")
+        x -= 1.2 * size
+        _legend_mark(draw, k, x, height / 2, size)
+        x -= 2.0 * size
+    return np.asarray(image)

@@ -270,6 +270,8 @@ class _Group:
 _TRACK_STEPS = 40
 #: A body's track is drawn when its cg moves at least this share of the largest cg motion.
 TRACK_SHARE = 0.12
+#: At most this many tracks (the bodies that move most), so a long chain stays legible.
+TRACK_MAX = 48
 
 
 class ModeRenderer:
@@ -434,6 +436,8 @@ class ModeRenderer:
         motion = field.q[:, :3]
         size = np.sqrt((np.abs(motion) ** 2).sum(axis=1))
         keep = np.nonzero(size >= TRACK_SHARE * max(size.max(), 1e-300))[0] if size.size else []
+        if len(keep) > TRACK_MAX:
+            keep = np.sort(keep[np.argsort(-size[keep])[:TRACK_MAX]])
         if not len(keep):
             self._show_tracks(False)
             return
