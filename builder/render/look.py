@@ -35,8 +35,8 @@ __all__ = ["Caption", "caption_of", "band_height", "draw_band", "legend_strip", 
            "motion_colours", "VIEW_WORDS", "LEGEND"]
 
 #: How each view is named in the caption.
-VIEW_WORDS = {"side": "seen from the left, front to the left", "front": "seen from ahead",
-              "top": "seen from above, front up", "iso": "seen from ahead and left, above"}
+VIEW_WORDS = {"side": "from the left", "front": "from ahead", "top": "from above",
+              "iso": "from ahead-left, above"}
 
 #: The legend's three entries (the words of the amplitude cue).
 LEGEND = ("deep colour: moves most", "ring: path of a cg in one cycle", "pale shadow: at rest")
@@ -168,24 +168,31 @@ def draw_band(width: int, height: int, caption: Caption, legend: bool = False) -
         right = left - 2 * pad
     room = right - x
     head = caption.line()
-    size = max(8, int(height * 0.27))
-    for _ in range(12):
-        top = _font(size, True)
-        body = _font(max(7, int(size * 0.9)))
-        label = _wrap(caption.label, body, room) if caption.label else []
-        need = (size * 1.25) * (1 if head else 0) + len(label) * size * 1.15
-        if (need <= height - 2 * pad and top.getlength(head) <= room) or size <= 8:
-            break
+    # the first line keeps one size on every picture of a size (it only shrinks
+    # to fit the width); the label takes the lines left below it
+    size = max(8, int(height * 0.26))
+    top = _font(size, True)
+    while size > 8 and top.getlength(head) > room:
         size -= 1
+        top = _font(size, True)
+    head_h = size * 1.3 if head else 0.0
+    lsize = max(7, int(size * 0.85))
+    while True:
+        body = _font(lsize)
+        label = _wrap(caption.label, body, room) if caption.label else []
+        if head_h + len(label) * lsize * 1.18 <= height - 2 * pad or lsize <= 7:
+            break
+        lsize -= 1
+    need = head_h + len(label) * lsize * 1.18
     y = pad + max(0.0, (height - 2 * pad - need) / 2)
     if head:
         draw.text((x, y), head, font=top, fill=text)
-        y += size * 1.25
+        y += head_h
     for line in label:
-        if y + size > height:
+        if y + lsize > height:
             break
         draw.text((x, y), line, font=body, fill=dim)
-        y += size * 1.15
+        y += lsize * 1.18
     return np.asarray(image)
 
 
