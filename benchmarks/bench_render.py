@@ -184,7 +184,44 @@ def _van(folder: Path, base: float) -> list[bool]:
         print(f"{name:<26} {seconds:7.2f} s   target < {target:4.1f} s   "
               f"{seconds / base:7.1f} x baseline   {'ok' if seconds <= target else 'SLOW'}")
     renderer.close()
+    ready = _page_ready(folder / "van_report" / "report.html")
+    if ready is None:
+        print("van report interactive     (no chromium and chromedriver: not measured)")
+    else:
+        out.append(ready <= 2.0)
+        print(f"{'van report interactive':<26} {ready:7.2f} s   target <  2.0 s   "
+              f"{ready / base:7.1f} x baseline   {'ok' if ready <= 2.0 else 'SLOW'}")
     return out
+
+
+def _page_ready(page: Path) -> float | None:
+    """Seconds from navigation start until the page's 3D view has drawn its first
+    frames in headless Chromium (the page's own performance clock), or None."""
+    import shutil
+
+    chromium, driver = shutil.which("chromium"), shutil.which("chromedriver")
+    if not chromium or not driver:
+        return None
+    from selenium import webdriver
+    from selenium.webdriver.chrome.options import Options
+    from selenium.webdriver.chrome.service import Service
+
+    options = Options()
+    for arg in ("--headless=new", "--no-sandbox", "--use-angle=swiftshader",
+                "--enable-unsafe-swiftshader"):
+        options.add_argument(arg)
+    options.binary_location = chromium
+    browser = webdriver.Chrome(options=options, service=Service(driver))
+    try:
+        browser.get(page.resolve().as_uri())
+        for _ in range(300):
+            if browser.execute_script("return window.lumpgraphView && "
+                                      "window.lumpgraphView.frames > 0"):
+                break
+            time.sleep(0.05)
+        return float(browser.execute_script("return window.lumpgraphView.readyAt")) / 1000.0
+    finally:
+        browser.quit()
 
 
 def _chain_png(path: Path, count: int) -> None:

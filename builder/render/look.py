@@ -31,7 +31,8 @@ from numpy.typing import NDArray
 
 from .scene import PALETTE
 
-__all__ = ["Caption", "caption_of", "band_height", "draw_band", "legend_strip", "hex_rgb",
+__all__ = ["Caption", "caption_of", "band_height", "draw_band", "band_layout", "fit_band",
+           "BandLayout", "legend_strip", "hex_rgb",
            "motion_colours", "VIEW_WORDS", "LEGEND"]
 
 #: How each view is named in the caption.
@@ -136,63 +137,112 @@ def _wrap(text: str, font: Any, width: float) -> list[str]:
     return lines
 
 
-def draw_band(width: int, height: int, caption: Caption, legend: bool = False) -> NDArray:
-    """The caption band as an image (height x width x 3 uint8)."""
+@dataclass(frozen=True)
+class BandLayout:
+    """Where the band's parts go (pixels): text start ``x``, room for the text, fonts."""
+
+    pad: int
+    tile: int
+    tile_w: int
+    x: float
+    room: float
+    legend_left: float | None
+    legend_size: int
+    head_size: int
+    label_size: int
+    label: tuple[str, ...]
+    fits: bool
+
+
+#: Smallest label font (pixels); a label that does not fit at it makes the band taller.
+SMALLEST_LABEL = 7
+
+
+def band_layout(width: int, height: int, caption: Caption, legend: bool = False,
+                tile_cap: int | None = None) -> BandLayout:
+    """Lay out a band: the first line keeps its size (shrinking only to fit the width);
+    the label wraps between words and shrinks down to :data:`SMALLEST_LABEL`;
+    ``fits`` says whether every label line fits in the band's height."""
+    pad = max(3, min(height, 2 * (tile_cap or height)) // 10)
+    tile = height - 2 * pad if tile_cap is None else min(height - 2 * pad, tile_cap)
+    x = float(pad)
+    tile_w = 0
+    if caption.number:
+        tile_w = max(tile, int(_font(int(tile * 0.62), True).getlength(caption.number)) + pad)
+        x += tile_w + 2 * pad
+    right = float(width - pad)
+    legend_left, legend_size = None, 0
+    if legend and width >= 640:
+        legend_size = max(8, int(min(height, 1.5 * tile + 2 * pad) * 0.19))
+        font = _font(legend_size)
+        legend_left = right - (max(font.getlength(t) for t in LEGEND) + 2.2 * legend_size)
+        right = legend_left - 2 * pad
+    room = max(right - x, 10.0)
+    head = caption.line()
+    size = max(8, int((tile + 2 * pad) * 0.26))
+    while size > 8 and _font(size, True).getlength(head) > room:
+        size -= 1
+    head_h = size * 1.3 if head else 0.0
+    lsize = max(SMALLEST_LABEL, int(size * 0.85))
+    while True:
+        label = _wrap(caption.label, _font(lsize), room) if caption.label else []
+        fits = head_h + len(label) * lsize * 1.18 <= height - 2 * pad
+        if fits or lsize <= SMALLEST_LABEL:
+            break
+        lsize -= 1
+    return BandLayout(pad, tile, tile_w, x, room, legend_left, legend_size, size, lsize,
+                      tuple(label), fits)
+
+
+def fit_band(size: Sequence[int], captions: Sequence[Caption], sheet: bool = False,
+             legend: bool = False) -> int:
+    """The band height (pixels) for pictures of ``size`` that holds every caption whole:
+    :func:`band_height`, made taller (up to 40 % of the picture) for a long label."""
+    base = band_height(size, sheet)
+    height = base
+    while height < 0.4 * size[1] and not all(
+            band_layout(int(size[0]), height, c, legend, base).fits for c in captions):
+        height += 2
+    return height
+
+
+def draw_band(width: int, height: int, caption: Caption, legend: bool = False,
+              tile_cap: int | None = None) -> NDArray:
+    """The caption band as an image (height x width x 3 uint8); ``tile_cap`` limits the
+    number tile's size in a band made taller for a long label."""
     from PIL import Image, ImageDraw
 
     ink, text, dim = (tuple(int(v) for v in hex_rgb(PALETTE[k]))
                       for k in ("band", "band_text", "band_dim"))
     image = Image.new("RGB", (width, height), ink)
     draw = ImageDraw.Draw(image)
-    pad = max(3, height // 10)
-    x = pad
+    lay = band_layout(width, height, caption, legend, tile_cap)
+    pad, tile = lay.pad, lay.tile
     if caption.number:
-        tile = height - 2 * pad
-        tile_w = max(tile, int(_font(int(tile * 0.62), True).getlength(caption.number)) + pad)
         accent = tuple(int(v) for v in hex_rgb(PALETTE["accent"]))
-        draw.rectangle([x, pad, x + tile_w, pad + tile], fill=accent)
-        font = _font(int(tile * 0.62), True)
-        draw.text((x + tile_w / 2, pad + tile / 2), caption.number, font=font, fill=text,
-                  anchor="mm")
-        x += tile_w + 2 * pad
-    right = width - pad
-    if legend and width >= 640:
-        size = max(8, int(height * 0.19))
-        font = _font(size)
-        column = max(font.getlength(t) for t in LEGEND) + 2.2 * size
-        left = right - column
+        top = (height - tile) / 2
+        draw.rectangle([pad, top, pad + lay.tile_w, top + tile], fill=accent)
+        draw.text((pad + lay.tile_w / 2, top + tile / 2), caption.number,
+                  font=_font(int(tile * 0.62), True), fill=text, anchor="mm")
+    if lay.legend_left is not None:
+        size = lay.legend_size
+        span = min(height - 2 * pad, 1.5 * tile)
+        y0 = (height - span) / 2
         for k, words in enumerate(LEGEND):
-            y = pad + k * (height - 2 * pad) / 3 + (height - 2 * pad) / 6
-            _legend_mark(draw, k, left + 0.6 * size, y, size)
-            draw.text((left + 1.8 * size, y), words, font=font, fill=dim, anchor="lm")
-        right = left - 2 * pad
-    room = right - x
+            y = y0 + (k + 0.5) * span / 3
+            _legend_mark(draw, k, lay.legend_left + 0.6 * size, y, size)
+            draw.text((lay.legend_left + 1.8 * size, y), words, font=_font(size), fill=dim,
+                      anchor="lm")
     head = caption.line()
-    # the first line keeps one size on every picture of a size (it only shrinks
-    # to fit the width); the label takes the lines left below it
-    size = max(8, int(height * 0.26))
-    top = _font(size, True)
-    while size > 8 and top.getlength(head) > room:
-        size -= 1
-        top = _font(size, True)
-    head_h = size * 1.3 if head else 0.0
-    lsize = max(7, int(size * 0.85))
-    while True:
-        body = _font(lsize)
-        label = _wrap(caption.label, body, room) if caption.label else []
-        if head_h + len(label) * lsize * 1.18 <= height - 2 * pad or lsize <= 7:
-            break
-        lsize -= 1
-    need = head_h + len(label) * lsize * 1.18
+    head_h = lay.head_size * 1.3 if head else 0.0
+    need = head_h + len(lay.label) * lay.label_size * 1.18
     y = pad + max(0.0, (height - 2 * pad - need) / 2)
     if head:
-        draw.text((x, y), head, font=top, fill=text)
+        draw.text((lay.x, y), head, font=_font(lay.head_size, True), fill=text)
         y += head_h
-    for line in label:
-        if y + lsize > height:
-            break
-        draw.text((x, y), line, font=body, fill=dim)
-        y += lsize * 1.18
+    for line in lay.label:
+        draw.text((lay.x, y), line, font=_font(lay.label_size), fill=dim)
+        y += lay.label_size * 1.18
     return np.asarray(image)
 
 

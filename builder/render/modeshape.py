@@ -36,14 +36,22 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import InputError
-from .look import Caption, band_height, caption_of, draw_band, hex_rgb, motion_colours
+from .look import (
+    Caption,
+    band_height,
+    caption_of,
+    draw_band,
+    fit_band,
+    hex_rgb,
+    motion_colours,
+)
 from .scene import PALETTE, SPATIAL, Scene, body_motions, import_pyvista, mode_displacements
 
 __all__ = [
     "VIEWS", "DEFAULT_SCALE", "ModeField", "ModeRenderer", "mode_field", "mode_title",
     "choose_view", "phase_normalised", "render_mode", "save_mode_image", "save_mode_animation",
     "encode_png", "write_bytes", "mp4_available", "DrawnMode", "expanded_modes",
-    "title_font", "caption_columns", "wrap_caption", "CHAR_WIDTH", "CAPTION_LINES",
+    "wrap_caption",
 ]
 
 VIEWS = ("side", "front", "top", "iso")
@@ -152,26 +160,6 @@ def _get(mode: Any, name: str, default: Any = None) -> Any:
     return getattr(mode, name, default)
 
 
-#: Caption rule: the mean width of a caption character over the font size. VTK's
-#: sans-serif font measures 0.99 to 1.03 on lower-case labels (measured with
-#: vtkTextActor.GetBoundingBox at sizes 7 and 15); 1.1 leaves room for wider
-#: letters, so a wrapped line never runs off the picture.
-CHAR_WIDTH = 1.1
-#: Label lines a caption is given before its font shrinks (review sheet).
-CAPTION_LINES = 2
-_MARGIN = 0.015      # the caption's left margin, as a fraction of the picture width
-
-
-def title_font(size: Sequence[int]) -> int:
-    """Caption font size (VTK points, about pixels) for a picture of ``size`` (w, h)."""
-    return max(7, int(round(size[1] / 52)))
-
-
-def caption_columns(width: int, font: int) -> int:
-    """Characters that fit on one caption line of a picture ``width`` pixels wide."""
-    return max(12, int(width * (1.0 - 2.0 * _MARGIN) / (CHAR_WIDTH * font)))
-
-
 def wrap_caption(text: str, columns: int | None) -> list[str]:
     """Caption lines of at most ``columns`` characters, broken between words (a word
     longer than a line is split). Nothing is cut: a long label takes more lines."""
@@ -185,7 +173,7 @@ def wrap_caption(text: str, columns: int | None) -> list[str]:
 def mode_title(mode: Any, columns: int | None = None) -> str:
     """``Mode 3   1.23 Hz   damping 21.0 %`` and the label below (plain ASCII).
 
-    With ``columns`` (see :func:`caption_columns`) both are wrapped to lines of
+    With ``columns`` (characters per line) both are wrapped to lines of
     at most that many characters, so that nothing is cut off at the picture's
     edge. (A ``|`` or ``$`` would send the text through VTK's math-text
     renderer.)
@@ -299,7 +287,8 @@ class ModeRenderer:
         pv = import_pyvista()
         self.scene = scene
         self.size = (int(size[0]), int(size[1]))
-        self.band = band_height(self.size, sheet) if band is None else int(band)
+        self.tile_cap = band_height(self.size, sheet)
+        self.band = self.tile_cap if band is None else int(band)
         self.band = min(self.band, self.size[1] - 8)
         self.view_size = (self.size[0], self.size[1] - self.band)
         self.scale = float(scale)
@@ -521,7 +510,8 @@ class ModeRenderer:
             if self._view and not caption.view:
                 caption = Caption(caption.number, caption.frequency_hz, caption.damping_ratio,
                                   caption.label, self._view)
-            self._band_image = draw_band(self.size[0], self.band, caption, self.legend)
+            self._band_image = draw_band(self.size[0], self.band, caption, self.legend,
+                                         self.tile_cap)
         return np.vstack([view, self._band_image])
 
     def draw(self, field: ModeField | None, title: str | Caption, view: str,
@@ -585,7 +575,8 @@ def render_mode(scene: Scene, dofs: Sequence[str], mode: Any, *, view: str | Non
     field, caption, view = _mode_inputs(scene, dofs, mode, view, size)
     if renderer is not None:
         return renderer.draw(field, caption, view, phase)
-    with ModeRenderer(scene, size, scale=scale) as own:
+    band = fit_band(size, [caption], legend=True)
+    with ModeRenderer(scene, size, scale=scale, band=band) as own:
         return own.draw(field, caption, view, phase)
 
 
@@ -629,7 +620,8 @@ def save_mode_animation(scene: Scene, dofs: Sequence[str], mode: Any,
         raise InputError(f"--frames: need at least 2 frames, got {frames}")
     field, caption, view = _mode_inputs(scene, dofs, mode, view, size)
     images = []
-    with ModeRenderer(scene, size, scale=scale, anti_aliasing=False) as renderer:
+    band = fit_band(size, [caption], legend=True)
+    with ModeRenderer(scene, size, scale=scale, anti_aliasing=False, band=band) as renderer:
         renderer.set_mode(field, caption)
         renderer.set_view(view)
         for k in range(frames):

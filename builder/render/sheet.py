@@ -23,29 +23,24 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ..errors import InputError
-from .look import caption_of, hex_rgb, legend_strip
+from .look import caption_of, fit_band, hex_rgb, legend_strip
 from .modeshape import (
-    CAPTION_LINES,
     DEFAULT_SCALE,
     ModeRenderer,
     _get,
-    caption_columns,
     choose_view,
     encode_png,
     mode_field,
-    mode_title,
-    title_font,
     write_bytes,
 )
 from .scene import PALETTE, Scene
 
-__all__ = ["sheet_layout", "render_sheet", "save_sheet", "mode_list", "sheet_captions",
-           "sheet_renderer", "LEGEND_HEIGHT"]
+__all__ = ["sheet_layout", "render_sheet", "save_sheet", "mode_list", "sheet_renderer",
+           "LEGEND_HEIGHT"]
 
 GAP = 4  # pixels between panels
 #: Height (pixels) of the legend strip under a sheet.
 LEGEND_HEIGHT = 34
-_SMALLEST_FONT = 6
 
 
 def mode_list(modes: Any) -> list[Any]:
@@ -82,18 +77,6 @@ def _selected(modes: Any, count: int, skip_rigid: bool) -> list[Any]:
     return chosen[:count]
 
 
-def sheet_captions(modes: Sequence[Any], panel: tuple[int, int]) -> tuple[int, list[str]]:
-    """(font size, caption of every mode) for panels of ``panel`` (w, h) pixels: the
-    panel's font, or a smaller one down to 6 so that every label fits in two
-    lines; wrapped to the panel's width (see the module notes)."""
-    font = title_font(panel)
-    while True:
-        titles = [mode_title(m, caption_columns(panel[0], font)) for m in modes]
-        if font <= _SMALLEST_FONT or all(t.count("\n") <= CAPTION_LINES for t in titles):
-            return font, titles
-        font -= 1
-
-
 def render_sheet(scene: Scene, dofs: Sequence[str], modes: Any, count: int = 12, *,
                  size: tuple[int, int] | None = None, view: str | None = None,
                  scale: float = DEFAULT_SCALE, skip_rigid: bool = True,
@@ -118,15 +101,17 @@ def render_sheet(scene: Scene, dofs: Sequence[str], modes: Any, count: int = 12,
         raise InputError(f"--size: {width}x{height} is too small for {len(chosen)} panels")
     sheet = np.empty((height, width, 3), dtype=np.uint8)
     sheet[:] = hex_rgb(PALETTE["ground_edges"]).astype(np.uint8)
+    views = [view or choose_view(scene, dofs, mode) for mode in chosen]
+    captions = [caption_of(mode, v) for mode, v in zip(chosen, views, strict=True)]
+    band = fit_band((pw, ph), captions, sheet=True)
     own = renderer is None
-    if renderer is None or renderer.size != (pw, ph):
-        renderer = sheet_renderer(scene, (pw, ph), scale)
+    if renderer is None or renderer.size != (pw, ph) or renderer.band != band:
+        renderer = sheet_renderer(scene, (pw, ph), scale, band)
         own = True
     try:
         for k, mode in enumerate(chosen):
             field = mode_field(scene, dofs, _get(mode, "shape"))
-            panel_view = view or choose_view(scene, dofs, mode)
-            image = renderer.draw(field, caption_of(mode, panel_view), panel_view)
+            image = renderer.draw(field, captions[k], views[k])
             r, c = divmod(k, cols)
             y, x = r * (ph + GAP), c * (pw + GAP)
             sheet[y:y + ph, x:x + pw] = image
@@ -138,10 +123,11 @@ def render_sheet(scene: Scene, dofs: Sequence[str], modes: Any, count: int = 12,
     return sheet
 
 
-def sheet_renderer(scene: Scene, panel: tuple[int, int],
-                   scale: float = DEFAULT_SCALE) -> ModeRenderer:
-    """A renderer for sheet panels of ``panel`` (w, h) pixels (no legend in the band)."""
-    return ModeRenderer(scene, panel, scale=scale, legend=False, sheet=True)
+def sheet_renderer(scene: Scene, panel: tuple[int, int], scale: float = DEFAULT_SCALE,
+                   band: int | None = None) -> ModeRenderer:
+    """A renderer for sheet panels of ``panel`` (w, h) pixels (no legend in the band;
+    ``band``: its height in pixels, see :func:`builder.render.look.fit_band`)."""
+    return ModeRenderer(scene, panel, scale=scale, legend=False, sheet=True, band=band)
 
 
 def save_sheet(scene: Scene, dofs: Sequence[str], modes: Any, path: str | os.PathLike,
