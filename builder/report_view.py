@@ -124,8 +124,11 @@ _STYLE = """
              color: #f3eee3; padding: 0.45em 0.7em; font-size: 0.95em; }
 .lgv .tile { background: #c8643b; color: #f3eee3; font-weight: bold; font-size: 1.4em;
              min-width: 1.8em; text-align: center; padding: 0.1em 0.3em; }
-.lgv .words b { display: block; } .lgv .words span { color: #b9b2a3; font-size: 0.9em; }
+.lgv .words { min-width: 14em; }
+.lgv .words b { display: block; white-space: pre; }
+.lgv .words span { color: #b9b2a3; font-size: 0.9em; }
 .lgv .tools { margin-left: auto; display: flex; gap: 0.4em; align-items: center; }
+.lgv select { max-width: 18em; }
 .lgv select, .lgv button { background: #f3eee3; color: #262d36; border: 0; padding: 0.2em 0.5em;
              font: inherit; font-size: 0.9em; cursor: pointer; }
 .lgv .hint { color: #b9b2a3; font-size: 0.8em; }
@@ -176,7 +179,7 @@ _SCRIPT = r"""
   camera.up.set(0, 0, 1);
   const target = new THREE.Vector3(...D.centre);
   const views = { side: [Math.PI / 2, 0], front: [0, 0], top: [0, 1.5], iso: [0.9, 0.55] };
-  let az = 0.9, el = 0.55, dist = 2.0 * D.size;
+  let az = 0.9, el = 0.55, dist = 1.5 * D.size;
   function place() {
     camera.position.set(target.x + dist * Math.cos(el) * Math.cos(az),
                         target.y + dist * Math.cos(el) * Math.sin(az),

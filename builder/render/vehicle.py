@@ -226,7 +226,11 @@ def skin_parts(name: str, chain: Any, bodies: Mapping, index: Mapping[str, int],
     s_mid = 0.5 * (s0 + s1) if kind == "box" else float(
         sum(bodies[n].mass * c for n, c in zip(names, nodes, strict=True))
         / sum(bodies[n].mass for n in names))
-    profile = section_profile(half[0], half[1])
+    if kind == "box":
+        profile = section_profile(half[0], half[1])
+    else:                       # an ellipsoid's sections are ellipses
+        t = np.linspace(0.0, 2 * np.pi, 24, endpoint=False)
+        profile = np.column_stack([half[0] * np.cos(t), half[1] * np.sin(t)])
     m = len(profile)
     per = int(np.clip(600 // max(len(nodes), 1), 2, 6))
     cuts = np.concatenate([[s0], nodes, [s1]])
