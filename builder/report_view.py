@@ -31,7 +31,7 @@ __all__ = ["view_payload", "view_section", "THREE_JS", "MAX_VIEW_MODES"]
 
 THREE_JS = Path(__file__).parent / "assets" / "three.min.js"
 #: Modes offered in the view (the lowest vibration modes), to keep the page small.
-MAX_VIEW_MODES = 24
+MAX_VIEW_MODES = 16
 
 
 def _b64(array: NDArray, dtype: str) -> str:
@@ -136,14 +136,18 @@ _STYLE = """
 
 _SCRIPT = r"""
 (function () {
+  const marks = { start: performance.now() };
   const D = JSON.parse(document.getElementById('lgv-data').textContent);
-  const state = window.lumpgraphView = { mode: 0, frames: 0, ready: false, playing: true };
+  marks.data = performance.now();
+  const state = window.lumpgraphView = { mode: 0, frames: 0, ready: false, playing: true,
+                                         marks };
   const dec = (s, T) => { const b = atob(s); const u = new Uint8Array(b.length);
     for (let i = 0; i < b.length; i++) u[i] = b.charCodeAt(i); return new T(u.buffer); };
   const canvas = document.getElementById('lgv-canvas');
   const renderer = new THREE.WebGLRenderer({ canvas, antialias: true,
                                             preserveDrawingBuffer: true });
   renderer.setPixelRatio(window.devicePixelRatio || 1);
+  marks.context = performance.now();
   const scene = new THREE.Scene();
   scene.background = new THREE.Color(D.paper);
   scene.add(new THREE.HemisphereLight(0xffffff, 0x8a8272, 0.75));
@@ -245,6 +249,7 @@ _SCRIPT = r"""
     place(); renderer.render(scene, camera); state.frames++;
     requestAnimationFrame(frame);
   }
+  marks.meshes = performance.now();
   if (D.modes.length) { setMode(0); [az, el] = views[D.modes[0].view] || views.iso; }
   state.ready = true; state.readyAt = performance.now();
   requestAnimationFrame(frame);

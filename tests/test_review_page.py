@@ -151,8 +151,8 @@ def test_view_in_chromium_changes_with_the_mode(van_page):
         assert first.reshape(-1, 3).std(axis=0).max() > 10
         assert len(np.unique(first.reshape(-1, 3), axis=0)) > 50
         tile = browser.find_element("id", "lgv-tile").text
-        Select(browser.find_element("id", "lgv-mode")).select_by_index(19)
-        assert browser.execute_script("return window.lumpgraphView.mode") == 19
+        Select(browser.find_element("id", "lgv-mode")).select_by_index(12)
+        assert browser.execute_script("return window.lumpgraphView.mode") == 12
         frames = browser.execute_script("return window.lumpgraphView.frames")
         _wait(browser, f"return window.lumpgraphView.frames > {frames + 2}")
         second = _canvas(browser)
