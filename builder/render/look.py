@@ -152,6 +152,7 @@ class BandLayout:
     label_size: int
     label: tuple[str, ...]
     fits: bool
+    head: str = ""     # the first line as drawn (without the view when it does not fit)
 
 
 #: Smallest label font (pixels); a label that does not fit at it makes the band taller.
@@ -180,8 +181,10 @@ def band_layout(width: int, height: int, caption: Caption, legend: bool = False,
     room = max(right - x, 10.0)
     head = caption.line()
     size = max(8, int((tile + 2 * pad) * 0.26))
-    while size > 8 and _font(size, True).getlength(head) > room:
+    while size > 6 and _font(size, True).getlength(head) > room:
         size -= 1
+    if _font(size, True).getlength(head) > room and caption.view:
+        head = Caption(caption.number, caption.frequency_hz, caption.damping_ratio).line()
     head_h = size * 1.3 if head else 0.0
     lsize = max(SMALLEST_LABEL, int(size * 0.85))
     while True:
@@ -191,7 +194,7 @@ def band_layout(width: int, height: int, caption: Caption, legend: bool = False,
             break
         lsize -= 1
     return BandLayout(pad, tile, tile_w, x, room, legend_left, legend_size, size, lsize,
-                      tuple(label), fits)
+                      tuple(label), fits, head)
 
 
 def fit_band(size: Sequence[int], captions: Sequence[Caption], sheet: bool = False,
@@ -233,7 +236,7 @@ def draw_band(width: int, height: int, caption: Caption, legend: bool = False,
             _legend_mark(draw, k, lay.legend_left + 0.6 * size, y, size)
             draw.text((lay.legend_left + 1.8 * size, y), words, font=_font(size), fill=dim,
                       anchor="lm")
-    head = caption.line()
+    head = lay.head
     head_h = lay.head_size * 1.3 if head else 0.0
     need = head_h + len(lay.label) * lay.label_size * 1.18
     y = pad + max(0.0, (height - 2 * pad - need) / 2)
@@ -275,6 +278,8 @@ def legend_strip(width: int, height: int) -> NDArray:
     for k in range(len(LEGEND) - 1, -1, -1):
         words = LEGEND[k]
         x -= font.getlength(words)
+        if x < 2.2 * size:
+            break                   # a narrow sheet keeps the entries that fit whole
         draw.text((x, height / 2), words, font=font, fill=dim, anchor="lm")
         x -= 1.2 * size
         _legend_mark(draw, k, x, height / 2, size)
