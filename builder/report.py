@@ -72,6 +72,7 @@ img { max-width: 100%; border: 1px solid #bcc1b5; background: white; }
            margin: 1.5em 0; }
 .note { color: #6b5d4d; font-style: italic; }
 .bar { display: inline-block; height: 0.7em; background: #3a8a8c; vertical-align: middle; }
+ul.warn li { color: #8a3b22; }
 pre { background: #fffdf8; border: 1px solid #d6d9cf; padding: 0.6em; overflow-x: auto; }
 """
 
@@ -126,10 +127,6 @@ def _table(header: Sequence[str], rows: Sequence[Sequence[Any]], left: Sequence[
     return f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>"
 
 
-def _vector(v: Any, digits: int = 3) -> str:
-    return "[" + ", ".join(f"{float(x):.{digits}f}" for x in np.asarray(v).ravel()) + "]"
-
-
 def _figure_png(fig: Any) -> bytes:
     import matplotlib.pyplot as plt
 
@@ -139,7 +136,7 @@ def _figure_png(fig: Any) -> bytes:
     return buffer.getvalue()
 
 
-def _section(title: str, build: Callable[[], str]) -> str:
+def _section(title: str, build: Callable[[], str], key: str = "") -> str:
     """A section; an analysis that is missing or fails leaves a one-line note."""
     try:
         content = build()
@@ -149,13 +146,14 @@ def _section(title: str, build: Callable[[], str]) -> str:
         content = f'<p class="note">Not computed for this model: {_e(exc)}</p>'
     if not content:
         return ""
-    return f"<section><h2>{_e(title)}</h2>\n{content}\n</section>\n"
+    ident = f' id="{_e(key)}"' if key else ""
+    return f"<section{ident}><h2>{_e(title)}</h2>\n{content}\n</section>\n"
 
 
 # ---------------------------------------------------------------- sections
 
 def _summary(assembly: Any, model: Any) -> str:
-    bodies = [[_e(b.name), _num(b.mass), _vector(b.cg), _e(" ".join(b.dofs)),
+    bodies = [[_e(b.name), _num(b.mass), _mm(b.cg), _e(" ".join(b.dofs)),
                _e((b.shape or {}).get("kind", "equivalent box") if b.shape else "equivalent box")]
               for b in assembly.bodies.values()]
     out = [f"<p>{count(len(assembly.bodies), 'body')}, {count(len(assembly.links), 'link')}, "
@@ -163,19 +161,19 @@ def _summary(assembly: Any, model: Any) -> str:
            f"{count(len(assembly.sensors), 'sensor')}; model analysed: "
            f"<b>{_e(model.name)}</b> with {count(len(model.dofs), 'DOF')}.</p>",
            "<h3>Bodies</h3>",
-           _table(["body", "mass (kg)", "cg (m)", "DOFs", "drawn as"], bodies, left=(0, 3, 4),
+           _table(["body", "mass (kg)", "cg (mm)", "DOFs", "drawn as"], bodies, left=(0, 3, 4),
                   limit=MAX_ROWS)]
     links = []
     for link in assembly.links.values():
         links.append([_e(link.name), _e(link.type), _e(link.a.node), _e(link.b.node),
                       _e(_props_text(link.props))])
     if links:
-        out += ["<h3>Links</h3>", _table(["link", "type", "end a", "end b", "properties (SI)"],
+        out += ["<h3>Links</h3>", _table(["link", "type", "end a", "end b", "properties"],
                                          links, left=(0, 1, 2, 3, 4), limit=MAX_ROWS)]
     if assembly.road:
         out += ["<h3>Road points</h3>",
-                _table(["road point", "at (m)"],
-                       [[_e(r.name), _vector(r.at)] for r in assembly.road.values()],
+                _table(["road point", "at (mm)"],
+                       [[_e(r.name), _mm(r.at)] for r in assembly.road.values()],
                        limit=MAX_ROWS)]
     if assembly.sensors:
         out += ["<h3>Sensors</h3>",
@@ -190,16 +188,53 @@ def _summary(assembly: Any, model: Any) -> str:
     return "\n".join(out)
 
 
+#: How each link property prints: its unit for translations and for rotations.
+_PROP_UNITS = {
+    "stiffness": ("kN/m", "kN m/rad"), "damping": ("N s/m", "N m s/rad"),
+    "EA": ("MN", "MN"), "EIy": ("MN m^2", "MN m^2"), "EIz": ("MN m^2", "MN m^2"),
+    "GJ": ("MN m^2", "MN m^2"), "shear_y": ("MN", "MN"), "shear_z": ("MN", "MN"),
+}
+
+
+def _eng(value: float, unit: str) -> str:
+    """``value`` (SI) in ``unit``, three significant figures, never an exponent."""
+    from .formatting import in_unit
+
+    v = in_unit(value, unit)
+    digits = max(0, 2 - int(np.floor(np.log10(abs(v))))) if v else 0
+    return f"{v:.{digits}f} {unit}"
+
+_COMPONENTS = ("x", "y", "z", "rx", "ry", "rz")
+
+
 def _props_text(props: dict[str, Any]) -> str:
+    """A link's properties in engineering units (kN/m, N s/m, kN m/rad, MN, MN m^2)."""
     parts = []
     for key, value in props.items():
+        if key in ("frame", "axis", "z_axis") or value is None:
+            continue
+        units = _PROP_UNITS.get(key)
         if isinstance(value, int | float) and not isinstance(value, bool):
-            parts.append(f"{key} {float(value):.4g}")
+            if units is not None and (float(value) != 0.0 or key == "stiffness"):
+                parts.append(f"{key} {_eng(float(value), units[0])}")
+            elif units is None and float(value) != 0.0:
+                parts.append(f"{key} {float(value):.3g}")
+        elif isinstance(value, np.ndarray) and value.size == 6 and units is not None:
+            entries = [f"{c} {_eng(float(v), units[k >= 3])}"
+                       for k, (c, v) in enumerate(zip(_COMPONENTS, value.ravel(), strict=True))
+                       if float(v) != 0.0]
+            if entries:
+                parts.append(f"{key} " + ", ".join(entries))
         elif isinstance(value, np.ndarray) and value.size <= 6:
             parts.append(f"{key} " + " ".join(f"{float(x):.3g}" for x in value.ravel()))
         elif isinstance(value, dict) and all(isinstance(v, int | float) for v in value.values()):
             parts.append(f"{key} " + " ".join(f"{k}={float(v):.3g}" for k, v in value.items()))
     return "; ".join(parts)
+
+
+def _mm(v: Any) -> str:
+    """A point (m) in mm."""
+    return "[" + ", ".join(f"{1000 * float(x):.0f}" for x in np.asarray(v).ravel()) + "]"
 
 
 def _plugin_name(spec: Any) -> str:
@@ -217,7 +252,7 @@ def _checks(model: Any) -> str:
         ["total mass", f"{checks.total_mass:.2f} kg" + "".join(
             f"; {part} ({checks.directional_mass[part]:.1f} kg) counted once, in "
             f"{', '.join(holders)}" for part, holders in checks.directional_parts.items())],
-        ["combined cg", _vector(checks.cg) + " m"],
+        ["combined cg", _mm(checks.cg) + " mm"],
         ["inertia about cg", f"xx {inertia[0, 0]:.1f}, yy {inertia[1, 1]:.1f}, "
                              f"zz {inertia[2, 2]:.1f} kg m^2"],
         ["DOFs (full model)", str(checks.dof_count)],
@@ -320,17 +355,18 @@ def _response_ladder(model: Any, road_class: str, speed_m_s: float) -> str:
             + _img(_figure_png(result.plot()), "error of each depth against its DOF count"))
 
 
-def _sheet(assembly: Any, model: Any, modes: Any, count: int) -> str:
+def _sheet(assembly: Any, model: Any, modes: Any, count: int, scene: Any = None) -> str:
     from .render import build_scene, encode_png, expanded_modes, render_sheet
 
     dofs, drawn = expanded_modes(model, modes)
     if not any(float(m.frequency_hz or 0.0) > 0 for m in drawn):
         return '<p class="note">No vibration modes to draw (all modes are rigid).</p>'
-    image = render_sheet(build_scene(assembly), dofs, drawn, count)
+    image = render_sheet(scene if scene is not None else build_scene(assembly), dofs, drawn,
+                         count)
     return (_img(encode_png(image), "review sheet of the lowest modes")
-            + '<p class="note">Colour: point amplitude over the largest in each mode; '
-              'outlines: the undeformed position. Views: side for pitch, front for roll, '
-              'iso otherwise.</p>')
+            + '<p class="note">Each part pale at rest and deep where it moves most; rings: '
+              "the path of each moving cg in one cycle; pale shadow: the rest position. "
+              "Views: side for pitch, front for roll, from ahead and above otherwise.</p>")
 
 
 def _frf(model: Any) -> str:
@@ -376,12 +412,13 @@ def _frf(model: Any) -> str:
     return _img(_figure_png(fig), "frequency responses from the road") + peaks
 
 
-def _ride(model: Any, road_class: str, speed_m_s: float) -> str:
+def _ride(model: Any, road_class: str, speed_m_s: float, result: Any = None) -> str:
     if not model.inputs or not model.sensors:
         return ""
-    from .analysis.ride import ride_response
+    if result is None:
+        from .analysis.ride import ride_response
 
-    result = ride_response(model, road_class, speed_m_s)
+        result = ride_response(model, road_class, speed_m_s)
     rows = []
     for s in result.sensors.values():
         rows.append([_e(s.name), _e(s.measure), _num(s.rms), _e(s.unit),
@@ -476,6 +513,79 @@ def _correlation(model: Any, measured: Any, modes: Any, threshold: float | None)
     return correlation_section(model, measured, modes, threshold)
 
 
+# ---------------------------------------------------------------- findings first
+
+#: Words that mark the split body's first elastic modes in the mode labels.
+_FIRSTS = (("first torsion", "first torsion"), ("first vertical bending", "first vertical bending"),
+           ("first lateral bending", "first lateral bending"))
+
+
+def _findings(assembly: Any, model: Any, modes: Any, ride: Callable[[], Any]) -> str:
+    """What the engineer decides on: the mode ladder, the body's first torsion and
+    bending, the comfort figures and every warning, before any inventory."""
+    vib = [m for m in modes.modes if float(m.frequency_hz or 0.0) > 0.0]
+    rigid = len(modes.modes) - len(vib)
+    out = []
+    rows = []
+    for m in vib[:12]:
+        bar = f'<span class="bar" style="width:{int(round(min(m.frequency_hz, 60.0) * 4))}px">' \
+              '</span>'
+        rows.append([str(m.number), f"{m.frequency_hz:.2f}", _num(m.damping_ratio, 3),
+                     f"{bar} {_e(m.label)}"])
+    out.append("<h3>Mode ladder (lowest vibration modes)</h3>")
+    out.append(_table(["mode", "f (Hz)", "damping ratio", "motion"], rows, left=(3,)))
+    if rigid:
+        out.append(f'<p class="note">{count(rigid, "rigid-body mode")} left out of the '
+                   "ladder (zero frequency).</p>")
+    firsts = []
+    for words, title in _FIRSTS:
+        found = next((m for m in vib if words in str(m.label)), None)
+        if found is not None:
+            firsts.append([_e(title), f"{found.frequency_hz:.2f}", str(found.number)])
+    if firsts:
+        out += ["<h3>Body's first elastic modes</h3>",
+                _table(["mode kind", "f (Hz)", "mode"], firsts)]
+    if model.inputs and model.sensors:
+        try:
+            result = ride()
+        except (LumpgraphError, ValueError, np.linalg.LinAlgError, RuntimeError) as exc:
+            out.append(f'<p class="note">Comfort not computed: {_e(exc)}</p>')
+        else:
+            points = list(getattr(result, "points", ()) or ())
+            if points:
+                rows = [[_e(p.title), f"{p.vector_sum:.3f}",
+                         "-" if p.vector_sum_health is None else f"{p.vector_sum_health:.3f}",
+                         _e(", ".join(p.reactions) or "-")] for p in points]
+                out += [f"<h3>Comfort on an ISO 8608 class {_e(result.road_class)} road</h3>",
+                        _table(["where", "vector sum (m/s^2)", "health sum (m/s^2)",
+                                "ISO 2631-1 Annex C"], rows, left=(0, 3))]
+    warnings = list(getattr(assembly, "warnings", ()) or ())
+    try:
+        from .analysis.checks import check_model
+        from .reduce import full_model
+
+        warnings += list(check_model(full_model(model)).warnings)
+    except (LumpgraphError, ValueError, np.linalg.LinAlgError, RuntimeError, ImportError):
+        pass
+    warnings += [str(n) for n in getattr(modes, "notes", ())]
+    out.append("<h3>Warnings</h3>")
+    out.append("<ul class=\"warn\">" + "".join(f"<li>{_e(w)}</li>" for w in warnings) + "</ul>"
+               if warnings else "<p>None.</p>")
+    return "\n".join(out)
+
+
+def _view(assembly: Any, model: Any, modes: Any, scene: Any = None) -> str:
+    from .render import build_scene, expanded_modes
+    from .report_view import view_payload, view_section
+
+    dofs, drawn = expanded_modes(model, modes)
+    vib = [m for m in drawn if float(m.frequency_hz or 0.0) > 0.0]
+    payload = view_payload(scene if scene is not None else build_scene(assembly), dofs, vib)
+    return ('<p class="sub">Choose a mode, drag to turn the view, wheel to zoom; the motion '
+            "plays in a loop, parts pale at rest and deep where they move most.</p>"
+            + view_section(payload))
+
+
 # ---------------------------------------------------------------- the page
 
 def report_html(assembly: Assembly, model: LinearModel, *, sheet: int = 12, road_class: str = "B",
@@ -493,6 +603,27 @@ def report_html(assembly: Assembly, model: LinearModel, *, sheet: int = 12, road
     if modes is None:
         modes = compute_modes(model)
     title = assembly.name or "lumpgraph model"
+    cache: dict[str, Any] = {}
+
+    def ride() -> Any:
+        if "ride" not in cache:
+            from .analysis.ride import ride_response
+
+            cache["ride"] = ride_response(model, road_class, speed_m_s)
+        return cache["ride"]
+
+    def scene() -> Any:
+        if "scene" not in cache:
+            from .render import build_scene
+
+            cache["scene"] = build_scene(assembly)
+        return cache["scene"]
+
+    def ride_section() -> str:
+        if not model.inputs or not model.sensors:
+            return ""
+        return _ride(model, road_class, speed_m_s, ride())
+
     parts = [
         "<!DOCTYPE html>",
         '<html lang="en"><head><meta charset="utf-8">',
@@ -500,22 +631,24 @@ def report_html(assembly: Assembly, model: LinearModel, *, sheet: int = 12, road
         f"<style>{_STYLE}</style></head><body><main>",
         f"<h1>{_e(title)}</h1>",
         f'<p class="sub">Review report by lumpgraph; source {_e(assembly.source or "-")}; '
-        f"model {_e(model.name)} ({count(len(model.dofs), 'DOF')}). SI units, ISO 8855 axes "
-        "(x forward, y left, z up).</p>",
+        f"model {_e(model.name)} ({count(len(model.dofs), 'DOF')}). ISO 8855 axes "
+        "(x forward, y left, z up); points in mm, stiffness in kN/m, damping in N s/m.</p>",
         f'<div class="caution">{_e(CAUTION)}</div>',
-        _section("Model summary", lambda: _summary(assembly, model)),
-        _section("Model checks", lambda: _checks(model)),
+        _section("Findings", lambda: _findings(assembly, model, modes, ride), "findings"),
+        _section("Modes in 3D", lambda: _view(assembly, model, modes, scene()), "view"),
         _section("Modes", lambda: _modes(modes)),
         _section("Model ladder", lambda: _ladder(model)),
         _section("Correlation with measured modes", lambda: _correlation(
             model, measured, modes, threshold)) if measured is not None else "",
-        _section("Review sheet", lambda: _sheet(assembly, model, modes, sheet)),
+        _section("Review sheet", lambda: _sheet(assembly, model, modes, sheet, scene())),
         _section("Frequency response from the road", lambda: _frf(model)),
-        _section("Ride on a random road", lambda: _ride(model, road_class, speed_m_s)),
+        _section("Ride on a random road", ride_section),
         _section("Model ladder on the ride figures",
                  lambda: _response_ladder(model, road_class, speed_m_s)),
         _section("Plugin analyses", lambda: _plugins(assembly, model, road_class=road_class,
                                                      speed_m_s=speed_m_s)),
+        _section("Model checks", lambda: _checks(model)),
+        _section("Model summary", lambda: _summary(assembly, model), "inventory"),
         f'<div class="caution">{_e(CAUTION)}</div>',
         "</main></body></html>",
     ]

@@ -310,41 +310,32 @@ def test_proposed_depths_centre_on_the_vehicle_body(van):
 # ------------------------------------------------------------- captions
 
 def test_captions_wrap_to_the_picture_and_are_never_cut():
-    from builder.render.modeshape import (
-        CHAR_WIDTH,
-        ModeRenderer,
-        caption_columns,
-        mode_title,
-        title_font,
-    )
+    # The caption band wraps a long label between words and shrinks it; when it
+    # still does not fit, the band grows: every word is drawn, each line within
+    # the room beside the number tile (Pillow's own text measure).
+    from builder.render.look import band_layout, caption_of, fit_band
+    from builder.render.modeshape import ModeRenderer
     from builder.render.scene import build_scene
-    from builder.render.sheet import sheet_captions
+
     asm = load_assembly(ROOT / "assemblies" / "quarter_car.yaml")
     scene = build_scene(asm)
     long = ("driver cushion bounce + body second vertical bending + driver pelvis and thighs "
             "against lower torso + powertrain roll about the crank with motion across the crank")
     mode = {"number": 28, "frequency_hz": 38.49, "damping_ratio": 0.0197, "label": long}
-    for size in ((480, 360), (320, 240), (1024, 768)):
-        columns = caption_columns(size[0], title_font(size))
-        title = mode_title(mode, columns)
-        lines = title.split("\n")
-        assert all(len(line) <= columns for line in lines)
-        assert " ".join(lines[1:]) == long                  # nothing dropped
-        with ModeRenderer(scene, size, title_lines=len(lines)) as renderer:
-            renderer.set_mode(None, title)
-            renderer.plotter.render()
-            box = [0.0] * 4
-            renderer._title.GetBoundingBox(renderer.plotter.renderer, box)
-            assert box[1] <= size[0], f"{size}: the caption runs to x = {box[1]:.0f} px"
-            assert CHAR_WIDTH * title_font(size) * max(map(len, lines)) >= box[1] - box[0]
-    # the sheet shrinks its font until the labels fit in two lines where it can,
-    # and gives a label that still does not fit a third line rather than cut it
-    shorter = {**mode, "label": long[:long.index(" with motion")]}
-    font, titles = sheet_captions([shorter, {**mode, "label": "body roll"}], (480, 360))
-    assert font < title_font((480, 360)) and titles[0].count("\n") == 2
-    assert titles[1] == mode_title({**mode, "label": "body roll"}, caption_columns(480, font))
-    font, titles = sheet_captions([mode], (480, 360))
-    assert font == 6 and titles[0].count("\n") == 3
+    caption = caption_of(mode, "iso")
+    for size, sheet in (((480, 360), True), ((320, 240), False), ((1024, 768), False)):
+        band = fit_band(size, [caption], sheet=sheet, legend=not sheet)
+        lay = band_layout(size[0], band, caption, not sheet, fit_band(size, [], sheet))
+        assert lay.fits and " ".join(lay.label) == long          # nothing dropped
+        from builder.render.look import _font
+
+        assert all(_font(lay.label_size).getlength(line) <= lay.room for line in lay.label)
+        with ModeRenderer(scene, size, band=band, legend=not sheet, sheet=sheet) as renderer:
+            image = renderer.draw(None, caption, "iso")
+        assert image.shape == (size[1], size[0], 3) and renderer.band == band
+    # a short label keeps the standard band
+    short = caption_of({**mode, "label": "body roll"}, "iso")
+    assert fit_band((480, 360), [short], sheet=True) == fit_band((480, 360), [], sheet=True)
 
 
 def test_readme_modes_table_is_what_the_command_prints():

@@ -211,9 +211,11 @@ def test_helix_runs_end_to_end():
 def test_scene_has_every_kind(car):
     _, _, scene = car
     kinds = {p.kind for p in scene.parts}
-    assert {"body", "spring", "road", "ground", "axes", "sensor"} <= kinds
+    assert {"body", "spring", "road", "ground", "tyre", "sensor"} <= kinds
     names = {p.name for p in scene.parts}
-    assert {"body:wheel_fl", "spring:susp_fl", "spring:tyre_rr", "road:fl"} <= names
+    # tyre links are drawn as tyres (no coil), the wheel bodies as their rims
+    assert {"body:wheel_fl", "spring:susp_fl", "tyre:tyre_rr", "road:fl"} <= names
+    assert "spring:tyre_rr" not in names
     # The vehicle size is its largest extent: the body box length, from its
     # inertia: l_x^2 = 6 (Iyy + Izz - Ixx) / m (uniform box, see shapes.py).
     lengths, _ = box_dimensions(1250.0, [[480, 0, -35], [0, 1850, 0], [-35, 0, 2100]])

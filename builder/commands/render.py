@@ -109,6 +109,6 @@ def _save_scene(scene, out: str, size: tuple[int, int], view: str) -> None:
     from ..render import ModeRenderer, encode_png
     from ..render.modeshape import write_bytes
 
-    with ModeRenderer(scene, size, scale=0.0, scalar_bar=False, plain=True) as renderer:
+    with ModeRenderer(scene, size, scale=0.0, legend=False, plain=True) as renderer:
         image = renderer.draw(None, scene.name, view)
     write_bytes(out, encode_png(image))

@@ -3,8 +3,8 @@
 Imported only by the commands that draw (pyvista is imported inside the
 functions that need it). The workflow:
 
-1. ``scene = build_scene(assembly)``: bodies as solids, links as coils,
-   blocks and tubes, road pads, ground plane and ISO 8855 axes;
+1. ``scene = build_scene(assembly)``: bodies as solids (split bodies as one skin,
+   wheels as tyres, a seated figure), links as coils, blocks and tubes, road lanes;
 2. ``save_mode_image(scene, model.dofs, mode, "mode.png", view="side")``;
 3. ``save_mode_animation(scene, model.dofs, mode, "mode.gif")``;
 4. ``save_sheet(scene, model.dofs, modeset, "sheet.png", count=12)``;

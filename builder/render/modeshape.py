@@ -6,8 +6,11 @@ largest point amplitude ``scale`` times the vehicle's size (its largest
 extent), so modes of any normalisation look alike. A complex shape is first
 turned so its largest DOF entry is real and positive (a real one is used as
 it is); frame ``k`` of a cycle of ``N`` shows ``Re(shape * exp(2 pi i k / N))``.
-Colour is the point amplitude over the largest amplitude (0 to 1), the same
-in every frame; the undeformed scene is ghosted as outlines.
+Each part is drawn in its own hue, pale where it stays still and deep where
+it moves most (point amplitude over the largest, the same in every frame);
+each moving cg leaves its one-cycle track, and the rest position is a flat
+shadow behind the scene; the caption band runs under the view (see
+:mod:`builder.render.look` and docs/look.md).
 
 Cameras use parallel projection and a fixed zoom per view for a scene, so
 frames and review-sheet panels are comparable. Views: ``side`` (from the
@@ -33,13 +36,22 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import InputError
+from .look import (
+    Caption,
+    band_height,
+    caption_of,
+    draw_band,
+    fit_band,
+    hex_rgb,
+    motion_colours,
+)
 from .scene import PALETTE, SPATIAL, Scene, body_motions, import_pyvista, mode_displacements
 
 __all__ = [
     "VIEWS", "DEFAULT_SCALE", "ModeField", "ModeRenderer", "mode_field", "mode_title",
     "choose_view", "phase_normalised", "render_mode", "save_mode_image", "save_mode_animation",
     "encode_png", "write_bytes", "mp4_available", "DrawnMode", "expanded_modes",
-    "title_font", "caption_columns", "wrap_caption", "CHAR_WIDTH", "CAPTION_LINES",
+    "wrap_caption",
 ]
 
 VIEWS = ("side", "front", "top", "iso")
@@ -148,26 +160,6 @@ def _get(mode: Any, name: str, default: Any = None) -> Any:
     return getattr(mode, name, default)
 
 
-#: Caption rule: the mean width of a caption character over the font size. VTK's
-#: sans-serif font measures 0.99 to 1.03 on lower-case labels (measured with
-#: vtkTextActor.GetBoundingBox at sizes 7 and 15); 1.1 leaves room for wider
-#: letters, so a wrapped line never runs off the picture.
-CHAR_WIDTH = 1.1
-#: Label lines a caption is given before its font shrinks (review sheet).
-CAPTION_LINES = 2
-_MARGIN = 0.015      # the caption's left margin, as a fraction of the picture width
-
-
-def title_font(size: Sequence[int]) -> int:
-    """Caption font size (VTK points, about pixels) for a picture of ``size`` (w, h)."""
-    return max(7, int(round(size[1] / 52)))
-
-
-def caption_columns(width: int, font: int) -> int:
-    """Characters that fit on one caption line of a picture ``width`` pixels wide."""
-    return max(12, int(width * (1.0 - 2.0 * _MARGIN) / (CHAR_WIDTH * font)))
-
-
 def wrap_caption(text: str, columns: int | None) -> list[str]:
     """Caption lines of at most ``columns`` characters, broken between words (a word
     longer than a line is split). Nothing is cut: a long label takes more lines."""
@@ -181,7 +173,7 @@ def wrap_caption(text: str, columns: int | None) -> list[str]:
 def mode_title(mode: Any, columns: int | None = None) -> str:
     """``Mode 3   1.23 Hz   damping 21.0 %`` and the label below (plain ASCII).
 
-    With ``columns`` (see :func:`caption_columns`) both are wrapped to lines of
+    With ``columns`` (characters per line) both are wrapped to lines of
     at most that many characters, so that nothing is cut off at the picture's
     edge. (A ``|`` or ``$`` would send the text through VTK's math-text
     renderer.)
@@ -225,19 +217,9 @@ def choose_view(scene: Scene, dofs: Sequence[str], mode: Any) -> str:
     top = max(share, key=share.get)
     if share[top] <= 0:
         return "iso"
+    if top == "rx" and any(p.kind == "skin" for p in scene.parts):
+        return "iso"     # a twisted skin reads from ahead and above, not end on
     return {"ry": "side", "rx": "front"}.get(top, "iso")
-
-
-def _colour_table(pv):
-    stops = PALETTE["ramp"]
-    pos = np.array([p for p, _ in stops])
-    rgb = np.array([pv.Color(c).int_rgb for _, c in stops], dtype=float)
-    x = np.linspace(0.0, 1.0, 256)
-    values = np.empty((256, 4), dtype=np.uint8)
-    for k in range(3):
-        values[:, k] = np.round(np.interp(x, pos, rgb[:, k]))
-    values[:, 3] = 255
-    return pv.LookupTable(values=values)
 
 
 def parse_size(text: str | Sequence[int] | None, default: tuple[int, int]) -> tuple[int, int]:
@@ -267,88 +249,89 @@ class _Group:
         ends = np.cumsum([0] + [len(p.geometry.points) for p in parts])
         self.slices = [slice(int(a), int(b)) for a, b in zip(ends[:-1], ends[1:], strict=True)]
         self.base = np.array(self.mesh.points, dtype=float)
+        self.colour = np.vstack([np.tile(hex_rgb(p.color), (len(p.geometry.points), 1))
+                                 for p in parts]) if parts else np.zeros((0, 3))
         self.scaled: NDArray | None = None
+
+
+#: Track samples around one cycle.
+_TRACK_STEPS = 40
+#: A body's track is drawn when its cg moves at least this share of the largest cg motion.
+TRACK_SHARE = 0.12
+#: At most this many tracks (the bodies that move most), so a long chain stays legible.
+TRACK_MAX = 48
 
 
 class ModeRenderer:
     """One off-screen plotter holding a scene, redrawn for any mode, view and phase.
 
+    The picture is the 3D view over the caption band (:mod:`builder.render.look`);
+    :meth:`draw` and :meth:`screenshot` return the whole picture of ``size``.
     Stills are multisampled (smooth edges); ``anti_aliasing=False`` renders
     about three times faster on a CPU renderer and suits animation frames.
-    ``plain=True`` draws the parts in their own colours (for the undeformed
-    scene) instead of by amplitude.
+    ``plain=True`` draws the parts in their own full colours (the undeformed
+    scene). ``legend`` puts the amplitude cue's legend in the band (single
+    pictures; a sheet carries it once); ``shadow`` draws the rest shadow and
+    ``tracks`` the cg tracks.
 
     >>> with ModeRenderer(scene, (800, 600)) as r:   # doctest: +SKIP
-    ...     image = r.draw(field, "Mode 1", "side", phase=0.0)
+    ...     image = r.draw(field, caption, "side", phase=0.0)
     """
 
     def __init__(self, scene: Scene, size: tuple[int, int] = (1024, 768), *,
-                 scale: float = DEFAULT_SCALE, scalar_bar: bool = True, ghost: bool = True,
-                 font_size: int | None = None, anti_aliasing: bool = True,
-                 plain: bool = False, title_lines: int = 2):
+                 scale: float = DEFAULT_SCALE, legend: bool = True, shadow: bool = True,
+                 tracks: bool = True, anti_aliasing: bool = True, plain: bool = False,
+                 band: int | None = None, sheet: bool = False):
         if not scale >= 0 or not math.isfinite(scale):
             raise InputError(f"--scale: expected a fraction >= 0, got {scale!r}")
         pv = import_pyvista()
         self.scene = scene
         self.size = (int(size[0]), int(size[1]))
+        self.tile_cap = band_height(self.size, sheet)
+        self.band = self.tile_cap if band is None else int(band)
+        self.band = min(self.band, self.size[1] - 8)
+        self.view_size = (self.size[0], self.size[1] - self.band)
         self.scale = float(scale)
-        self.plotter = pv.Plotter(off_screen=True, window_size=self.size)
+        self.legend = legend
+        self.plain = plain
+        self.plotter = pv.Plotter(off_screen=True, window_size=self.view_size)
         if not anti_aliasing:    # multisampling triples the CPU render time of a frame
             self.plotter.disable_anti_aliasing()
-        self.plotter.set_background(PALETTE["background_bottom"], top=PALETTE["background_top"])
-        font = font_size or title_font(self.size)
-        self._font = font
-        self._title_lines = max(2, int(title_lines))
-        lut = _colour_table(pv)
-        bar = {"title": "amplitude", "n_labels": 3, "fmt": "%.1f",
-               "vertical": True, "position_x": 0.9, "position_y": 0.18, "width": 0.035,
-               "height": 0.5, "color": PALETTE["text"], "title_font_size": font,
-               "label_font_size": font}
+        self.plotter.set_background(PALETTE["paper"])
         # Moving parts are merged into one mesh per opacity (one actor each, so a
-        # model of thousands of bodies renders as fast as a small one); static
-        # parts keep their own colours.
+        # model of thousands of bodies renders as fast as a small one), coloured
+        # per point; static parts keep their own colours.
         self._groups: list[_Group] = []
         self._slices: dict[int, tuple[_Group, slice]] = {}
         moving = [k for k, p in enumerate(scene.parts) if p.moving]
-        if plain:
-            for k in moving:
-                part = scene.parts[k]
-                group = _Group([part], [k])
-                self.plotter.add_mesh(group.mesh, color=part.color, opacity=part.opacity,
-                                      ambient=0.2, specular=0.1)
-                self._add_group(group)
-        else:
-            for opacity in sorted({scene.parts[k].opacity for k in moving}, reverse=True):
-                members = [k for k in moving if scene.parts[k].opacity == opacity]
-                group = _Group([scene.parts[k] for k in members], members)
-                group.mesh.point_data["amplitude"] = np.zeros(group.mesh.n_points)
-                self.plotter.add_mesh(
-                    group.mesh, scalars="amplitude", cmap=lut, clim=(0.0, 1.0),
-                    smooth_shading=False, show_scalar_bar=scalar_bar and not self._groups,
-                    scalar_bar_args=bar, specular=0.15, diffuse=0.85, ambient=0.18,
-                    opacity=opacity)
-                self._add_group(group)
-            ghosts = [p.outline for p in scene.parts if p.moving and p.outline is not None]
-            if ghost and ghosts:
-                from .scene import Geometry
+        for opacity in sorted({scene.parts[k].opacity for k in moving}, reverse=True):
+            members = [k for k in moving if scene.parts[k].opacity == opacity]
+            group = _Group([scene.parts[k] for k in members], members)
+            group.mesh.point_data["rgb"] = np.round(group.colour).astype(np.uint8)
+            self.plotter.add_mesh(group.mesh, scalars="rgb", rgb=True, smooth_shading=False,
+                                  specular=0.12, diffuse=0.8, ambient=0.25, opacity=opacity,
+                                  show_scalar_bar=False)
+            self._add_group(group)
+        self._shadow = None
+        solids = [p.geometry for p in scene.parts if p.moving and p.geometry.faces.size]
+        if shadow and solids and not plain:
+            from .scene import Geometry
 
-                self.plotter.add_mesh(Geometry.merge(ghosts).polydata(), color=PALETTE["ghost"],
-                                      line_width=1.2)
+            self._shadow = self.plotter.add_mesh(
+                Geometry.merge(solids).polydata(), color=PALETTE["shadow"], ambient=1.0,
+                diffuse=0.0, specular=0.0, show_scalar_bar=False)
         for part in scene.parts:
             if part.moving:
                 continue
-            mesh = part.mesh.copy(deep=True)
-            if part.kind == "ground":
-                self.plotter.add_mesh(mesh, color=part.color, show_edges=True,
-                                      edge_color=PALETTE["ground_edges"], ambient=0.35,
-                                      diffuse=0.65, specular=0.0)
-            else:
-                self.plotter.add_mesh(mesh, color=part.color, ambient=0.2, specular=0.1)
-        self._title = self.plotter.add_text("", position=(0.015 * self.size[0],
-                                                      self.size[1] - 0.6 * font),
-                                            font_size=font, color=PALETTE["text"])
-        self._title.GetTextProperty().SetVerticalJustificationToTop()
-        self._title.GetTextProperty().SetLineSpacing(1.15)
+            self.plotter.add_mesh(part.mesh.copy(deep=True), color=part.color, ambient=0.35,
+                                  diffuse=0.65, specular=0.0)
+        self._tracks_on = tracks and not plain
+        self._track_layer = None
+        self._track_actor = None
+        self._dot_actor = None
+        self._track_data: tuple[NDArray, NDArray] | None = None
+        self._caption: Caption = Caption()
+        self._band_image: NDArray | None = None
         self._cameras = {view: self._camera(view) for view in VIEWS}
         self._view: str | None = None
         self._field: ModeField | None = None
@@ -366,13 +349,9 @@ class ModeRenderer:
         rel = pts - center
         half_w = np.abs(rel @ right).max()
         half_h = np.abs(rel @ up).max()
-        aspect = self.size[0] / self.size[1]
+        aspect = self.view_size[0] / self.view_size[1]
         margin = self.scale * self.scene.size
-        parallel = 1.06 * max(half_h + margin, (half_w + margin) / aspect / 0.9)
-        # Leave the top band to the title: widen and move the scene down.
-        band = min(0.3, 1.4 * self._title_lines * self._font / self.size[1])
-        parallel /= 1.0 - band
-        center = center + up * parallel * band
+        parallel = 1.08 * max(half_h + margin, (half_w + margin) / aspect)
         position = center + direction * 4.0 * self.scene.size
         return position, center, up, float(parallel)
 
@@ -389,8 +368,15 @@ class ModeRenderer:
         cam.up = tuple(up)
         self.plotter.enable_parallel_projection()
         cam.parallel_scale = parallel
+        if self._shadow is not None:
+            # the rest shadow sits behind the scene, flat to the view: moved away
+            # from the camera it keeps its place in the (parallel) picture
+            direction = (np.asarray(position) - np.asarray(focus))
+            direction /= np.linalg.norm(direction)
+            self._shadow.SetPosition(*(-1.5 * self.scene.size * direction))
         self.plotter.renderer.ResetCameraClippingRange()
         self._view = view
+        self._band_image = None
 
     def _add_group(self, group: _Group) -> None:
         self._groups.append(group)
@@ -405,8 +391,9 @@ class ModeRenderer:
         group, part_slice = self._slices[k]
         return np.array(group.mesh.points[part_slice])
 
-    def set_mode(self, field: ModeField | None, title: str = "") -> None:
-        """Show ``field`` (None: the undeformed scene) with ``title`` above it."""
+    def set_mode(self, field: ModeField | None, title: str | Caption = "") -> None:
+        """Show ``field`` (None: the undeformed scene) with its caption (a :class:`Caption`
+        or a plain text) in the band."""
         self._field = field
         factor = 0.0 if field is None else field.factor(self.scene, self.scale)
         for group in self._groups:
@@ -418,10 +405,84 @@ class ModeRenderer:
                     amp[part_slice] = field.amplitude[k]
                     disp[part_slice] = factor * field.displacements[k]
             group.scaled = disp if factor else None
-            if "amplitude" in group.mesh.point_data:
-                group.mesh.point_data["amplitude"][:] = amp
-                group.mesh.point_data.Modified()
-        self._title.SetInput(title)
+            if self.plain or field is None:
+                rgb = np.round(group.colour).astype(np.uint8)
+            else:
+                rgb = motion_colours(group.colour, amp)
+            group.mesh.point_data["rgb"][:] = rgb
+            group.mesh.point_data.Modified()
+        self._caption = title if isinstance(title, Caption) else caption_of(str(title))
+        self._band_image = None
+        self._set_tracks(field, factor)
+
+    def _set_tracks(self, field: ModeField | None, factor: float) -> None:
+        if not self._tracks_on:
+            return
+        self._track_data = None
+        if field is None or factor == 0.0:
+            self._show_tracks(False)
+            return
+        motion = field.q[:, :3]
+        size = np.sqrt((np.abs(motion) ** 2).sum(axis=1))
+        keep = np.nonzero(size >= TRACK_SHARE * max(size.max(), 1e-300))[0] if size.size else []
+        if len(keep) > TRACK_MAX:
+            keep = np.sort(keep[np.argsort(-size[keep])[:TRACK_MAX]])
+        if not len(keep):
+            self._show_tracks(False)
+            return
+        self._track_data = (self.scene.cgs[keep], factor * motion[keep])
+        self._show_tracks(True)
+
+    def _overlay(self) -> Any:
+        """The renderer drawn over the scene (tracks stay visible inside solids)."""
+        if self._track_layer is None:
+            from vtkmodules import vtkRenderingCore as vtk
+
+            window = self.plotter.render_window
+            layer = vtk.vtkRenderer()
+            layer.SetLayer(1)
+            layer.InteractiveOff()
+            layer.SetActiveCamera(self.plotter.renderer.GetActiveCamera())
+            window.SetNumberOfLayers(2)
+            window.AddRenderer(layer)
+            self._track_layer = layer
+        return self._track_layer
+
+    def _show_tracks(self, on: bool) -> None:
+        for actor in (self._track_actor, self._dot_actor):
+            if actor is not None:
+                actor.SetVisibility(on)
+
+    def _place_tracks(self, phase: float) -> None:
+        if self._track_data is None:
+            return
+        pv = import_pyvista()
+        cgs, motion = self._track_data
+        phi = np.linspace(0.0, 2 * np.pi, _TRACK_STEPS, endpoint=False)
+        turn = np.exp(1j * phi)
+        rings = cgs[:, None, :] + np.real(motion[:, None, :] * turn[None, :, None])
+        points = rings.reshape(-1, 3)
+        n = len(cgs)
+        lines = np.hstack([[_TRACK_STEPS + 1, *range(k * _TRACK_STEPS, (k + 1) * _TRACK_STEPS),
+                            k * _TRACK_STEPS] for k in range(n)]).astype(np.int64)
+        dots = cgs + np.real(motion * complex(math.cos(phase), math.sin(phase)))
+        px = max(1.5, self.view_size[1] / 300.0)
+        if self._track_actor is None:
+            layer = self._overlay()
+            self._track_mesh = pv.PolyData(points, lines=lines)
+            self._dot_mesh = pv.PolyData(dots)
+            mapper = vtk_mapper(self._track_mesh)
+            self._track_actor = _actor(mapper, PALETTE["track"], line_width=px)
+            layer.AddActor(self._track_actor)
+            self._dot_actor = _actor(vtk_mapper(self._dot_mesh), PALETTE["accent"],
+                                     point_size=3.2 * px)
+            layer.AddActor(self._dot_actor)
+        else:
+            self._track_mesh.points = points
+            self._track_mesh.lines = lines
+            self._dot_mesh.points = dots
+            self._dot_mesh.verts = np.hstack([[1, k] for k in range(n)]).astype(np.int64)
+        self._show_tracks(True)
 
     def set_phase(self, phase: float) -> None:
         """Move the points to phase ``phase`` (rad) of the cycle: ``Re(u exp(i phase))``."""
@@ -432,15 +493,28 @@ class ModeRenderer:
             else:
                 group.mesh.points[:] = group.base + np.real(group.scaled * turn)
             group.mesh.GetPoints().Modified()
+        self._place_tracks(phase)
 
-    def screenshot(self) -> NDArray:
-        """Render and return the image (height x width x 3, uint8)."""
+    def render_view(self) -> NDArray:
+        """Render the 3D view alone (h - band) x w x 3 uint8."""
         self.plotter.renderer.ResetCameraClippingRange()
         self.plotter.render()
         image = self.plotter.screenshot(None, return_img=True)
         return np.ascontiguousarray(image[:, :, :3])
 
-    def draw(self, field: ModeField | None, title: str, view: str,
+    def screenshot(self) -> NDArray:
+        """Render and return the picture: the view over the caption band (h x w x 3 uint8)."""
+        view = self.render_view()
+        if self._band_image is None:
+            caption = self._caption
+            if self._view and not caption.view:
+                caption = Caption(caption.number, caption.frequency_hz, caption.damping_ratio,
+                                  caption.label, self._view)
+            self._band_image = draw_band(self.size[0], self.band, caption, self.legend,
+                                         self.tile_cap)
+        return np.vstack([view, self._band_image])
+
+    def draw(self, field: ModeField | None, title: str | Caption, view: str,
              phase: float = 0.0) -> NDArray:
         """Set mode, view and phase, then render (h x w x 3 uint8)."""
         self.set_mode(field, title)
@@ -458,24 +532,52 @@ class ModeRenderer:
         self.close()
 
 
+def vtk_mapper(mesh: Any) -> Any:
+    """A plain VTK poly-data mapper of ``mesh``."""
+    from vtkmodules import vtkRenderingCore as vtk
+
+    mapper = vtk.vtkPolyDataMapper()
+    mapper.SetInputData(mesh)
+    mapper.ScalarVisibilityOff()
+    return mapper
+
+
+def _actor(mapper: Any, color: str, line_width: float = 1.0, point_size: float = 1.0) -> Any:
+    from vtkmodules import vtkRenderingCore as vtk
+
+    actor = vtk.vtkActor()
+    actor.SetMapper(mapper)
+    prop = actor.GetProperty()
+    prop.SetColor(*(hex_rgb(color) / 255.0))
+    prop.SetLineWidth(line_width)
+    prop.SetPointSize(point_size)
+    prop.SetRenderPointsAsSpheres(True)
+    prop.SetLighting(False)
+    return actor
+
+
 def _mode_inputs(scene: Scene, dofs: Sequence[str], mode: Any, view: str | None,
-                 size: Sequence[int]) -> tuple[ModeField, str, str]:
+                 size: Sequence[int]) -> tuple[ModeField, Caption, str]:
     shape = _get(mode, "shape")
     if shape is None:
         raise InputError("mode has no shape to draw")
     field = mode_field(scene, dofs, shape)
-    title = mode_title(mode, caption_columns(int(size[0]), title_font(size)))
-    return field, title, view or choose_view(scene, dofs, mode)
+    view = view or choose_view(scene, dofs, mode)
+    return field, caption_of(mode, view), view
 
 
 def render_mode(scene: Scene, dofs: Sequence[str], mode: Any, *, view: str | None = None,
                 scale: float = DEFAULT_SCALE, size: tuple[int, int] = (1024, 768),
-                phase: float = 0.0) -> NDArray:
+                phase: float = 0.0, renderer: ModeRenderer | None = None) -> NDArray:
     """One frame of ``mode`` (an object with ``number, frequency_hz, damping_ratio, label,
-    shape`` over ``dofs``): image array (h x w x 3 uint8)."""
-    field, title, view = _mode_inputs(scene, dofs, mode, view, size)
-    with ModeRenderer(scene, size, scale=scale, title_lines=title.count("\n") + 1) as renderer:
-        return renderer.draw(field, title, view, phase)
+    shape`` over ``dofs``): image array (h x w x 3 uint8). Pass ``renderer`` (a
+    :class:`ModeRenderer` of this scene and size) to reuse its plotter."""
+    field, caption, view = _mode_inputs(scene, dofs, mode, view, size)
+    if renderer is not None:
+        return renderer.draw(field, caption, view, phase)
+    band = fit_band(size, [caption], legend=True)
+    with ModeRenderer(scene, size, scale=scale, band=band) as own:
+        return own.draw(field, caption, view, phase)
 
 
 def encode_png(image: NDArray) -> bytes:
@@ -516,11 +618,11 @@ def save_mode_animation(scene: Scene, dofs: Sequence[str], mode: Any,
         raise InputError("--out: MP4 needs an ffmpeg program on the PATH; write a .gif instead")
     if frames < 2:
         raise InputError(f"--frames: need at least 2 frames, got {frames}")
-    field, title, view = _mode_inputs(scene, dofs, mode, view, size)
+    field, caption, view = _mode_inputs(scene, dofs, mode, view, size)
     images = []
-    with ModeRenderer(scene, size, scale=scale, anti_aliasing=False,
-                      title_lines=title.count("\n") + 1) as renderer:
-        renderer.set_mode(field, title)
+    band = fit_band(size, [caption], legend=True)
+    with ModeRenderer(scene, size, scale=scale, anti_aliasing=False, band=band) as renderer:
+        renderer.set_mode(field, caption)
         renderer.set_view(view)
         for k in range(frames):
             renderer.set_phase(2.0 * math.pi * k / frames)

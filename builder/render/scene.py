@@ -7,10 +7,12 @@ objects so that thousands of bodies stay cheap; ``Part.mesh`` gives a pyvista
 
 - each body: its own ``shape`` if it gives one, else the uniform box (or
   ellipsoid) with its mass and principal moments, on its principal axes;
-- springs: coils between their end points; bushings: blocks at end ``a``'s
-  point; beams: tubes; any other link type: a thin line;
-- road points: pads; ground: a plane under everything; the ISO 8855 axes
-  (x forward, y left, z up) as a triad of arrows;
+  split bodies, wheels, seat and occupant are drawn as what they are
+  (:mod:`builder.render.vehicle`: one skin, tyres, a seated figure);
+- springs: coils between their end points; bushings and mounts: blocks at
+  end ``a``'s point; beams: tubes; any other link type: a thin line;
+- road points: pads; the ground: a lane under each line of road points (a
+  slab when there are none);
 - body-mounted sensors: small markers at their points.
 
 Every moving point belongs to a body, or to a link end. A body point ``p``
@@ -22,8 +24,8 @@ end points (a ground or road end does not move); a bushing's block moves
 with the mean of its two ends (``s = 1/2``). A part stores this as a list of
 :class:`Term`: per point, a 3 x 6 map and a weight for one body.
 
-A body solid that encloses another body's cg or a link end point is drawn
-translucent, so what it holds stays visible.
+A body solid or skin that encloses another body's cg is drawn see-through, so
+what it holds (powertrain, seat, occupant) stays visible.
 """
 
 from __future__ import annotations
@@ -57,28 +59,37 @@ __all__ = [
     "mode_displacements", "import_pyvista",
 ]
 
-#: The scene's colours (hex). Chosen for this project: warm paper background,
-#: slate and clay solids, a sand-to-brick ramp for amplitude.
+#: The scene's colours (hex), lumpgraph's own (see docs/look.md): warm paper,
+#: ink, and one hue per kind of part, drawn pale at rest and deep where it moves.
 PALETTE: dict[str, Any] = {
-    "background_top": "#f6f3ec",
-    "background_bottom": "#dde3e6",
-    "ground": "#d6d9cf",
-    "ground_edges": "#bcc1b5",
-    "pad": "#5d636b",
-    "ghost": "#8f98a8",
-    "text": "#23272e",
-    "axis_x": "#c9553a",
-    "axis_y": "#4f8f4a",
-    "axis_z": "#3f6aa8",
-    "bodies": ["#6d7f99", "#b28a62", "#7c9a83", "#9a7c9a", "#a39a6a", "#6a95a3"],
+    "paper": "#f3eee3",
+    "ink": "#262d36",
+    "band": "#262d36",
+    "band_text": "#f3eee3",
+    "band_dim": "#b9b2a3",
+    "accent": "#c8643b",
+    "shadow": "#d8d0bf",
+    "ground": "#e4ddcf",
+    "ground_edges": "#cfc6b4",
+    "lane": "#cbc2ae",
+    "pad": "#8a8272",
+    "track": "#262d36",
+    "text": "#262d36",
+    "skin": "#4f7896",
+    "rib": "#1f3447",
+    "bodies": ["#5b7f8f", "#8f7a5b", "#6f8f5b", "#8f5b78", "#7f8f5b", "#5b6f8f"],
+    "powertrain": "#c8643b",
+    "tyre": "#30343a",
+    "rim": "#a9a397",
+    "seat": "#6b5e4c",
+    "cushion": "#8d7b62",
+    "occupant": "#d99a3d",
     "spring": "#b0603a",
-    "bushing": "#3f4a57",
+    "bushing": "#3b4450",
     "beam": "#59636e",
     "link": "#59636e",
-    "sensor": "#d9a441",
+    "sensor": "#e0b341",
     "joint": "#7d3f63",
-    # amplitude ramp: (position, colour)
-    "ramp": [(0.0, "#33445e"), (0.3, "#3a8a8c"), (0.62, "#e2c46b"), (1.0, "#c03f2b")],
 }
 
 SPATIAL = ("x", "y", "z", "rx", "ry", "rz")
@@ -304,11 +315,41 @@ def build_scene(assembly: Assembly, solid: str = "box") -> Scene:
     cgs = np.array([_vec(b.cg) for b in bodies.values()]).reshape(-1, 3)
     parts: list[Part] = []
 
+    from .vehicle import find_roles, rim_mesh, seat_parts, skin_parts, tyre_mesh
+
+    roles = find_roles(assembly)
+    # a shape from the file is honoured; the seat plugin's bodies carry a nominal
+    # cube of their own that the seated figure replaces
+    shaped = {n for n, b in bodies.items()
+              if getattr(b, "shape", None) and n not in roles.seat_bodies}
     for i, (name, body) in enumerate(bodies.items()):
+        role = roles.role(name)
+        if role in ("skin", "seat", "occupant") and name not in shaped:
+            continue
+        if role == "wheel":
+            centre, radius = roles.wheels[name]
+            geometry = Geometry(*rim_mesh(centre, radius))
+            parts.append(Part(f"body:{name}", "body", geometry, PALETTE["rim"],
+                              _rigid_terms(i, geometry.points, cgs[i])))
+            continue
         geometry, outline = _body_solid(body, solid)
-        color = PALETTE["bodies"][i % len(PALETTE["bodies"])]
+        color = PALETTE["powertrain"] if role == "powertrain" else \
+            PALETTE["bodies"][i % len(PALETTE["bodies"])]
         parts.append(Part(f"body:{name}", "body", geometry, color,
                           _rigid_terms(i, geometry.points, cgs[i]), outline=outline))
+    for name, chain in roles.chains.items():
+        parts.extend(skin_parts(name, chain, bodies, index, solid, PALETTE["skin"],
+                                PALETTE["rib"]))
+    for seat in roles.seats.values():
+        for part in seat_parts(seat, bodies, index, PALETTE):
+            body = part.name[5:] if part.name.startswith("body:") else ""
+            if body not in shaped:
+                parts.append(part)
+    for lname, (body, centre, radius) in roles.tyres.items():
+        i = index[body]
+        geometry = Geometry(*tyre_mesh(centre, radius))
+        parts.append(Part(f"tyre:{lname}", "tyre", geometry, PALETTE["tyre"],
+                          _rigid_terms(i, geometry.points, cgs[i])))
 
     road = dict(getattr(assembly, "road", {}) or {})
     road_pts = np.array([_vec(r.at) for r in road.values()]).reshape(-1, 3)
@@ -325,6 +366,13 @@ def build_scene(assembly: Assembly, solid: str = "box") -> Scene:
     unit = 0.01 * size    # drawing unit for links and markers
 
     for name, link in links.items():
+        if name in roles.tyres:
+            continue            # drawn as the tyre
+        if {_end_node(link.a), _end_node(link.b)} <= roles.seat_bodies:
+            continue            # cushion and occupant couplings: the seated figure shows them
+        chain_a = roles.segment_of.get(_end_node(link.a))
+        if chain_a is not None and chain_a == roles.segment_of.get(_end_node(link.b)):
+            continue            # a beam inside a split body: the skin shows it
         parts.append(_link_part(name, link, bodies, index, cgs, ground_z, unit))
 
     for name, sensor in getattr(assembly, "sensors", {}).items():
@@ -337,21 +385,11 @@ def build_scene(assembly: Assembly, solid: str = "box") -> Scene:
                               PALETTE["sensor"], _rigid_terms(i, points, cgs[i])))
 
     for name, point in road.items():
-        pad = cylinder_mesh(_vec(point.at) + [0, 0, 0.6 * unit], 6 * unit, 1.2 * unit)
+        pad = cylinder_mesh(_vec(point.at) + [0, 0, 0.3 * unit], 5 * unit, 0.6 * unit)
         parts.append(Part(f"road:{name}", "road", Geometry(*pad), PALETTE["pad"]))
 
-    pv = import_pyvista()
-    span = hi - lo
-    margin = 0.15 * size
-    plane = pv.Plane(center=((lo[0] + hi[0]) / 2, (lo[1] + hi[1]) / 2, ground_z),
-                     direction=(0, 0, 1), i_size=span[0] + 2 * margin,
-                     j_size=span[1] + 2 * margin, i_resolution=10, j_resolution=6)
-    parts.append(Part("ground", "ground", Geometry.of(plane), PALETTE["ground"]))
-    # The triad stands off the front-right corner: left of the vehicle in the
-    # side, front and iso views, clear of the scalar bar on the right.
-    parts.extend(_axes_parts(pv, np.array([hi[0] + 0.6 * margin, lo[1] - 0.4 * margin,
-                                           ground_z]), 0.12 * size))
-    _see_through(parts, bodies, links)
+    parts.append(_ground_part(lo, hi, size, ground_z, road_pts))
+    _see_through(parts, bodies, links, roles.powertrain | roles.seat_bodies)
     masses = np.array([float(b.mass) for b in bodies.values()])
     inertias = np.array([np.asarray(b.inertia, float).reshape(3, 3) for b in bodies.values()])
     return Scene(str(getattr(assembly, "name", "")), names, cgs, masses,
@@ -359,20 +397,52 @@ def build_scene(assembly: Assembly, solid: str = "box") -> Scene:
                  np.array([lo[0], hi[0], lo[1], hi[1], lo[2], hi[2]]))
 
 
-def _see_through(parts: list[Part], bodies: Mapping, links: Mapping) -> None:
-    """Make translucent every body solid that hides another body's cg or a link end point."""
-    solids = [p for p in parts if p.kind == "body"]
-    cgs = np.array([_vec(bodies[p.name[5:]].cg) for p in solids]).reshape(-1, 3)
+def _see_through(parts: list[Part], bodies: Mapping, links: Mapping,
+                 solid: set[str] = frozenset()) -> None:
+    """Make see-through every body solid or skin that hides another body's cg or a link end."""
+    groups: dict[str, list[Part]] = {}
+    for p in parts:
+        if p.kind == "body" and p.name[5:] in bodies and p.name[5:] not in solid:
+            groups.setdefault(p.name, []).append(p)
+        elif p.kind in ("skin", "rib"):
+            groups.setdefault("skin:" + p.name.split(":")[1], []).append(p)
+    own: dict[str, set[int]] = {}
+    for key, members in groups.items():
+        own[key] = {t.body for p in members for t in p.terms}
+    cgs = np.array([_vec(b.cg) for b in bodies.values()]).reshape(-1, 3)
     ends = [p for link in links.values() for p in (_finite_at(link.a), _finite_at(link.b))
             if p is not None]
     marks = np.vstack([cgs, np.array(ends).reshape(-1, 3)])
     owner = np.concatenate([np.arange(len(cgs)), np.full(len(ends), -1)])
-    for i, solid in enumerate(solids):
-        pts = solid.geometry.points
+    for key, members in groups.items():
+        pts = np.vstack([p.geometry.points for p in members if p.kind != "rib"]
+                        or [np.zeros((1, 3))])
         lo, hi = pts.min(axis=0), pts.max(axis=0)
-        inside = np.all((marks > lo) & (marks < hi), axis=1) & (owner != i)
+        foreign = ~np.isin(owner, list(own[key]))
+        # link ends on the solid's own surface (its mounts) do not count
+        inside = np.all((marks > lo) & (marks < hi), axis=1) & foreign & (owner >= 0)
         if inside.any():
-            solid.opacity = 0.4
+            for p in members:
+                if p.kind != "rib":
+                    p.opacity = 0.3 if p.kind == "skin" else 0.4
+
+
+def _ground_part(lo: NDArray, hi: NDArray, size: float, ground_z: float,
+                 road_pts: NDArray) -> Part:
+    """The ground: a lane under each line of road points, or a plain slab without any."""
+    margin = 0.12 * size
+    if len(road_pts):
+        pieces = []
+        for y in np.unique(np.round(road_pts[:, 1], 3)):
+            pts, faces = box_mesh([(lo[0] + hi[0]) / 2, y, ground_z - 0.004 * size],
+                                  [(hi[0] - lo[0]) / 2 + margin, 0.035 * size, 0.002 * size],
+                                  np.eye(3))
+            pieces.append(Geometry(pts, faces))
+        return Part("ground", "ground", Geometry.merge(pieces), PALETTE["lane"])
+    pts, faces = box_mesh([(lo[0] + hi[0]) / 2, (lo[1] + hi[1]) / 2, ground_z - 0.004 * size],
+                          [(hi[0] - lo[0]) / 2 + margin, (hi[1] - lo[1]) / 2 + margin,
+                           0.002 * size], np.eye(3))
+    return Part("ground", "ground", Geometry(pts, faces), PALETTE["ground"])
 
 
 def _link_part(name: str, link, bodies: Mapping, index: Mapping, cgs: NDArray,
@@ -467,23 +537,6 @@ def _frame_along(axis: NDArray) -> NDArray:
     b = np.cross(helper, a)
     b /= np.linalg.norm(b)
     return np.array([a, b, np.cross(a, b)])
-
-
-def _axes_parts(pv, origin: NDArray, length: float) -> list[Part]:
-    parts = []
-    for label, direction in (("x", (1, 0, 0)), ("y", (0, 1, 0)), ("z", (0, 0, 1))):
-        color = PALETTE[f"axis_{label}"]
-        arrow = pv.Arrow(start=origin, direction=direction, scale=length, tip_length=0.25,
-                         tip_radius=0.08, shaft_radius=0.025)
-        text = pv.Text3D(label, depth=0.02)
-        text.points = text.points * (0.4 * length)
-        tip = origin + 1.12 * length * np.asarray(direction, float)
-        text.translate(tip - np.asarray(text.center), inplace=True)
-        if label != "z":      # lay the letters on the ground plane so they read from above
-            text.translate((0, 0, 0.02 * length), inplace=True)
-        surface = Geometry.merge([Geometry.of(m.triangulate()) for m in (arrow, text)])
-        parts.append(Part(f"axes:{label}", "axes", surface, color))
-    return parts
 
 
 # ---------------------------------------------------------------- motion

@@ -5,11 +5,10 @@ Every panel comes from one plotter and the same fixed camera per view (see
 directly. Each panel's view is chosen from the mode's motion (side for
 pitch, front for roll, iso otherwise) unless one view is given for all.
 
-Captions are never cut off: each label is wrapped between words to the
-panel's width (:func:`~builder.render.modeshape.caption_columns`); when a
-label needs more than two lines at the panel's font, the font of the whole
-sheet shrinks (down to 6) until every label fits in two, and a label that
-still does not fit takes a third line (the scene moves down to make room).
+Each panel carries its caption band (:mod:`builder.render.look`); the band's
+text is wrapped between words to the panel's width and its font shrinks
+until the label fits. The legend of the amplitude cue is drawn once, in a
+strip under the grid.
 """
 
 from __future__ import annotations
@@ -24,25 +23,24 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ..errors import InputError
+from .look import caption_of, fit_band, hex_rgb, legend_strip
 from .modeshape import (
-    CAPTION_LINES,
     DEFAULT_SCALE,
     ModeRenderer,
     _get,
-    caption_columns,
     choose_view,
     encode_png,
     mode_field,
-    mode_title,
-    title_font,
     write_bytes,
 )
 from .scene import PALETTE, Scene
 
-__all__ = ["sheet_layout", "render_sheet", "save_sheet", "mode_list", "sheet_captions"]
+__all__ = ["sheet_layout", "render_sheet", "save_sheet", "mode_list", "sheet_renderer",
+           "LEGEND_HEIGHT"]
 
 GAP = 4  # pixels between panels
-_SMALLEST_FONT = 6
+#: Height (pixels) of the legend strip under a sheet.
+LEGEND_HEIGHT = 34
 
 
 def mode_list(modes: Any) -> list[Any]:
@@ -79,53 +77,57 @@ def _selected(modes: Any, count: int, skip_rigid: bool) -> list[Any]:
     return chosen[:count]
 
 
-def sheet_captions(modes: Sequence[Any], panel: tuple[int, int]) -> tuple[int, list[str]]:
-    """(font size, caption of every mode) for panels of ``panel`` (w, h) pixels: the
-    panel's font, or a smaller one down to 6 so that every label fits in two
-    lines; wrapped to the panel's width (see the module notes)."""
-    font = title_font(panel)
-    while True:
-        titles = [mode_title(m, caption_columns(panel[0], font)) for m in modes]
-        if font <= _SMALLEST_FONT or all(t.count("\n") <= CAPTION_LINES for t in titles):
-            return font, titles
-        font -= 1
-
-
 def render_sheet(scene: Scene, dofs: Sequence[str], modes: Any, count: int = 12, *,
                  size: tuple[int, int] | None = None, view: str | None = None,
-                 scale: float = DEFAULT_SCALE, skip_rigid: bool = True) -> NDArray:
-    """Image (h x w x 3 uint8) of the lowest ``count`` modes in a grid.
+                 scale: float = DEFAULT_SCALE, skip_rigid: bool = True,
+                 renderer: ModeRenderer | None = None) -> NDArray:
+    """Image (h x w x 3 uint8) of the lowest ``count`` modes in a grid, the legend under it.
 
-    ``size`` is the whole sheet in pixels (default: 480 x 360 per panel);
-    rigid-body (zero-frequency) modes are left out unless ``skip_rigid`` is
-    false.
+    ``size`` is the whole sheet in pixels (default: 480 x 360 per panel and the
+    legend strip); rigid-body (zero-frequency) modes are left out unless
+    ``skip_rigid`` is false. ``renderer`` (a sheet renderer of this scene at
+    the panel size, see :func:`sheet_renderer`) reuses its plotter.
     """
     chosen = _selected(modes, count, skip_rigid)
     rows, cols = sheet_layout(len(chosen))
+    strip = LEGEND_HEIGHT
     if size is None:
-        size = (cols * 480 + (cols - 1) * GAP, rows * 360 + (rows - 1) * GAP)
+        size = (cols * 480 + (cols - 1) * GAP, rows * 360 + (rows - 1) * GAP + strip)
     width, height = size
+    strip = min(strip, max(0, height // 8))
     pw = (width - (cols - 1) * GAP) // cols
-    ph = (height - (rows - 1) * GAP) // rows
+    ph = (height - strip - (rows - 1) * GAP) // rows
     if pw < 32 or ph < 32:
         raise InputError(f"--size: {width}x{height} is too small for {len(chosen)} panels")
-    from .scene import import_pyvista
-
-    pv = import_pyvista()
     sheet = np.empty((height, width, 3), dtype=np.uint8)
-    sheet[:] = np.array(pv.Color(PALETTE["ground_edges"]).int_rgb, dtype=np.uint8)
-    font, titles = sheet_captions(chosen, (pw, ph))
-    lines = max(t.count("\n") + 1 for t in titles)
-    with ModeRenderer(scene, (pw, ph), scale=scale, font_size=font,
-                      title_lines=lines) as renderer:
+    sheet[:] = hex_rgb(PALETTE["ground_edges"]).astype(np.uint8)
+    views = [view or choose_view(scene, dofs, mode) for mode in chosen]
+    captions = [caption_of(mode, v) for mode, v in zip(chosen, views, strict=True)]
+    band = fit_band((pw, ph), captions, sheet=True)
+    own = renderer is None
+    if renderer is None or renderer.size != (pw, ph) or renderer.band != band:
+        renderer = sheet_renderer(scene, (pw, ph), scale, band)
+        own = True
+    try:
         for k, mode in enumerate(chosen):
             field = mode_field(scene, dofs, _get(mode, "shape"))
-            panel_view = view or choose_view(scene, dofs, mode)
-            image = renderer.draw(field, titles[k], panel_view)
+            image = renderer.draw(field, captions[k], views[k])
             r, c = divmod(k, cols)
             y, x = r * (ph + GAP), c * (pw + GAP)
             sheet[y:y + ph, x:x + pw] = image
+    finally:
+        if own:
+            renderer.close()
+    if strip:
+        sheet[height - strip:] = legend_strip(width, strip)
     return sheet
+
+
+def sheet_renderer(scene: Scene, panel: tuple[int, int], scale: float = DEFAULT_SCALE,
+                   band: int | None = None) -> ModeRenderer:
+    """A renderer for sheet panels of ``panel`` (w, h) pixels (no legend in the band;
+    ``band``: its height in pixels, see :func:`builder.render.look.fit_band`)."""
+    return ModeRenderer(scene, panel, scale=scale, legend=False, sheet=True, band=band)
 
 
 def save_sheet(scene: Scene, dofs: Sequence[str], modes: Any, path: str | os.PathLike,

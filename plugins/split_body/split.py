@@ -129,6 +129,8 @@ class SegmentChain:
     names: tuple[str, ...]
     axis: np.ndarray
     stations: np.ndarray
+    #: the body's own ``shape`` from the file (drawn as the chain's skin), or None
+    shape: dict | None = None
 
     def body_at(self, point: np.ndarray) -> str:
         """The segment whose span holds ``point`` (m; before the span: the first)."""
@@ -312,7 +314,7 @@ def split_body(assembly: Assembly, spec: SplitSpec) -> Assembly:
             at = b.cg if s.at is None else np.asarray(s.at, float)
             s = _replace_target(s, names[_segment_of(float(at @ lay.axis), lay.stations)])
         sensors[n] = s
-    chain = SegmentChain(tuple(names), lay.axis.copy(), lay.stations.copy())
+    chain = SegmentChain(tuple(names), lay.axis.copy(), lay.stations.copy(), b.shape)
     return assembly.replace(bodies=bodies, links=links, sensors=sensors,
                             replaced={**assembly.replaced, spec.body: chain})
 

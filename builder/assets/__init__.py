@@ -1,0 +1,1 @@
+"""Files embedded into the review page: three.js (MIT, see three.LICENSE)."""
