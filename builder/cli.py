@@ -71,21 +71,30 @@ def _build(argv: Sequence[str]) -> tuple[argparse.ArgumentParser, object]:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    """Entry point of the ``lumpgraph`` command; returns the exit status."""
+    """Entry point of the ``lumpgraph`` command; returns the exit status.
+
+    0 done, 2 bad input or an output that cannot be written (one line on
+    stderr), 130 interrupted by Ctrl-C, 143 by SIGTERM (see
+    :mod:`builder.interrupts`).
+    """
+    from .interrupts import Terminated, exit_status, handled, stderr_line
+
     argv = list(sys.argv[1:] if argv is None else argv)
-    parser, module = _build(argv)
-    args = parser.parse_args(argv)
-    if module is None:
-        parser.print_help()
-        return 0 if not argv else 2
     try:
-        return int(module.run(args) or 0)
+        with handled():
+            parser, module = _build(argv)
+            args = parser.parse_args(argv)
+            if module is None:
+                parser.print_help()
+                return 0 if not argv else 2
+            return int(module.run(args) or 0)
     except LumpgraphError as exc:
         print(str(exc), file=sys.stderr)
         return 2
-    except KeyboardInterrupt:
-        print("lumpgraph: interrupted", file=sys.stderr)
-        return 130
+    except (KeyboardInterrupt, Terminated) as exc:
+        stderr_line("lumpgraph: interrupted" if isinstance(exc, KeyboardInterrupt)
+                    else "lumpgraph: terminated")
+        return exit_status(exc)
     except BrokenPipeError:
         return 0
 

@@ -60,16 +60,12 @@ def parse_band(text: str | None, default: tuple[float, float]) -> tuple[float, f
 
 
 def parse_points(text: str | None, default: int) -> int:
-    """A whole number of points, 2 to 1,000,000."""
+    """A whole number of points, 2 to the ceiling (``builder.options.CEILINGS``)."""
+    from ..options import whole
+
     if text is None:
         return default
-    try:
-        value = int(text)
-    except ValueError:
-        raise InputError(f'must be a whole number, got "{text}"', Where(field="--points")) from None
-    if not 2 <= value <= 1_000_000:
-        raise InputError(f"needs 2 to 1000000 points, got {value}", Where(field="--points"))
-    return value
+    return whole(text, "--points", 2, ceiling_key="frf --points")
 
 
 def run(args: argparse.Namespace) -> int:
