@@ -55,10 +55,12 @@ def _reason(exc: OSError) -> str:
     return reason
 
 
-def write_failure(exc: OSError, path: str | os.PathLike[str], option: str = "") -> OutputError:
-    """The one-line error for an ``OSError`` met writing ``path`` (option named if known)."""
+def write_failure(exc: OSError, path: str | os.PathLike[str], option: str = "",
+                  left: str = "nothing was written") -> OutputError:
+    """The one-line error for an ``OSError`` met writing ``path`` (option named if known);
+    ``left`` says what the failure left behind."""
     reason = _reason(exc)
-    return OutputError(f"cannot write {shown(os.fspath(path))}: {reason}; nothing was written",
+    return OutputError(f"cannot write {shown(os.fspath(path))}: {reason}; {left}",
                        Where(field=option))
 
 

@@ -62,6 +62,9 @@ CEILINGS: dict[str, Ceiling] = {
     "render --frames": Ceiling(3_600, "every frame is held in memory before encoding (800x600 "
                                "RGB: 1.4 MB, 3,600 frames 5 GB) and takes about 0.1 s to draw; "
                                "a cycle needs 20 to 100"),
+    "render --sheet": Ceiling(64, "a review sheet has 4 columns of 480x360 panels: 64 modes "
+                              "make 16 rows, 5,760 pixels tall, within the 8,192-pixel side "
+                              "of off-screen windows"),
     "render --size": Ceiling(8_192, "off-screen render windows of most OpenGL drivers stop at "
                              "8,192 pixels a side"),
     "render --size area": Ceiling(16_777_216, "one RGBA image of 16.8 million pixels (4096 x "

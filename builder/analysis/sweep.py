@@ -701,7 +701,8 @@ class _CsvSink:
             with contextlib.suppress(OSError):
                 os.ftruncate(self.fd, end)     # back to the last whole row
             if isinstance(exc, OSError):
-                raise write_failure(exc, self.path, "--csv") from None
+                raise write_failure(exc, self.path, "--csv", "the file keeps the whole rows "
+                                    "written before it; --resume continues") from None
             raise
 
     def close(self) -> None:

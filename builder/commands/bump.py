@@ -82,7 +82,7 @@ def _profile(args: argparse.Namespace, speed: float, rate: float,
     if args.plot:
         result.plot(args.plot)
     if args.csv:
-        write_atomic(args.csv, csv_text(result.to_csv_rows()))
+        write_atomic(args.csv, csv_text(result.to_csv_rows()), "--csv")
     if args.json:
         out = result.to_dict()
         out["profile"] = spectrum.to_dict()
@@ -140,7 +140,7 @@ def run(args: argparse.Namespace) -> int:
     if args.plot:
         result.plot(args.plot)
     if args.csv:
-        write_atomic(args.csv, csv_text(result.to_csv_rows()))
+        write_atomic(args.csv, csv_text(result.to_csv_rows()), "--csv")
     if args.json:
         print_json(result)
     else:

@@ -29,7 +29,8 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import InputError, Where, shown
+from ..io import STAGING_PREFIX, OutputError, write_failure
 from .modeshape import _get, mode_field
 from .scene import Scene, import_pyvista
 from .sheet import mode_list
@@ -75,20 +76,54 @@ def scene_blocks(scene: Scene, dofs: Sequence[str], modes: Any) -> Any:
     return blocks
 
 
+def _save_checked(blocks: Any, staged: Path, path: Path) -> None:
+    """``blocks.save(staged)``, a VTK writer error raised as an OutputError (VTK's own
+    log lines silenced), and the multiblock file checked to be there and complete."""
+    pv = import_pyvista()
+    from vtkmodules.vtkCommonCore import vtkLogger
+
+    verbosity = vtkLogger.GetCurrentVerbosityCutoff()
+    vtkLogger.SetStderrVerbosity(vtkLogger.VERBOSITY_OFF)
+    try:
+        with pv.VtkErrorCatcher(raise_errors=True, send_to_logging=False):
+            blocks.save(str(staged), binary=True)
+    except RuntimeError as exc:
+        text = str(exc).lower()
+        reason = ("no space left on the device or a file size limit" if "disk space" in text
+                  else "the VTK writer failed")
+        raise OutputError(f"cannot write {shown(str(path))}: {reason}; nothing was written",
+                          Where(field="--out")) from None
+    except OSError as exc:
+        raise write_failure(exc, path, "--out") from None
+    finally:
+        vtkLogger.SetStderrVerbosity(verbosity)
+    if not staged.is_file() or not staged.read_text(errors="replace").rstrip().endswith(
+            "</VTKFile>"):
+        raise OutputError(f"cannot write {shown(str(path))}: the multiblock file is "
+                          "incomplete; nothing was written", Where(field="--out"))
+
+
 def export_vtk(scene: Scene, dofs: Sequence[str], modes: Any, path: str | os.PathLike) -> Path:
     """Write the scene and mode shapes to ``path`` (``.vtm``) and its piece folder.
 
     The files are written in a temporary folder beside ``path`` and then
-    moved into place, so a failed export leaves no half-written set.
+    moved into place, so a failed export leaves no half-written set: a VTK
+    writer error (a full disk, a file size limit), which VTK only logs, is
+    caught and becomes an :class:`~builder.io.OutputError`, and the staging
+    folder is removed whatever happens.
     """
     path = Path(path)
     if path.suffix.lower() != ".vtm":
         raise InputError(f"--out: a VTK multiblock file ends in .vtm, got {path.name!r}")
     blocks = scene_blocks(scene, dofs, modes)
     parent = path.parent if str(path.parent) else Path(".")
-    with tempfile.TemporaryDirectory(prefix=f".{path.stem}.", dir=parent) as tmp:
+    try:
+        staging = tempfile.TemporaryDirectory(prefix=f"{STAGING_PREFIX}{path.stem}.", dir=parent)
+    except OSError as exc:
+        raise write_failure(exc, path, "--out") from None
+    with staging as tmp:
         staged = Path(tmp) / path.name
-        blocks.save(str(staged), binary=True)
+        _save_checked(blocks, staged, path)
         pieces = Path(tmp) / path.stem
         target = parent / path.stem
         if pieces.is_dir():
