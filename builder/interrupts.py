@@ -26,7 +26,8 @@ import threading
 from collections.abc import Iterable, Iterator
 from typing import Any
 
-__all__ = ["Terminated", "handled", "exit_status", "ignore_in_worker", "stop_processes"]
+__all__ = ["Terminated", "handled", "exit_status", "ignore_in_worker", "stop_processes",
+           "signals_held", "stderr_line"]
 
 
 class Terminated(BaseException):
@@ -83,6 +84,8 @@ def ignore_in_worker() -> None:
     quietly on SIGTERM (the default action)."""
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    if hasattr(signal, "pthread_sigmask"):      # started under signals_held()
+        signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
 
 
 def stop_processes(processes: Iterable[Any], grace_s: float = 2.0) -> None:
@@ -101,6 +104,29 @@ def stop_processes(processes: Iterable[Any], grace_s: float = 2.0) -> None:
             if p.is_alive():
                 p.kill()
                 p.join(grace_s)
+
+
+@contextlib.contextmanager
+def signals_held() -> Iterator[None]:
+    """SIGINT held back (blocked, so not lost) and ignored while the block runs:
+    processes started in it begin with Ctrl-C ignored (an ignored signal stays
+    ignored across exec, and Python then keeps it so), so a Ctrl-C that reaches the
+    whole process group cannot interrupt their start-up with a traceback; this
+    process gets a Ctrl-C that came meanwhile as soon as the block ends (Linux keeps
+    a blocked signal pending even while it is ignored). SIGTERM stays open, so that
+    a starting worker can still be terminated at once."""
+    if threading.current_thread() is not threading.main_thread() or \
+            not hasattr(signal, "pthread_sigmask"):
+        yield
+        return
+    held = {signal.SIGINT}
+    old = signal.pthread_sigmask(signal.SIG_BLOCK, held)
+    handler = signal.signal(signal.SIGINT, signal.SIG_IGN)
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGINT, handler if handler is not None else signal.SIG_DFL)
+        signal.pthread_sigmask(signal.SIG_SETMASK, old)
 
 
 def stderr_line(text: str) -> None:

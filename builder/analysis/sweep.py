@@ -537,10 +537,6 @@ def _set_problem(problem: Any) -> None:
     _WORKER_PROBLEM = problem
 
 
-def _evaluate_in_worker(values: np.ndarray, ref_pos: np.ndarray, k: int) -> dict[str, Any]:
-    return _WORKER_PROBLEM.evaluate(values, ref_pos, k)
-
-
 def _evaluate(problem: Any, values: np.ndarray, ref_pos: np.ndarray, k: int) -> dict[str, Any]:
     return problem.evaluate(values, ref_pos, k)
 
@@ -581,35 +577,59 @@ def _run_inprocess(problem: Any, chunks: list[_Chunk]) -> Iterator[dict[str, Any
         yield problem.evaluate(c.values, c.ref_pos, c.stop - c.start)
 
 
+def _evaluate_chunk_in_worker(c: _Chunk) -> dict[str, Any]:
+    return _WORKER_PROBLEM.evaluate(c.values, c.ref_pos, c.stop - c.start)
+
+
+def _load_problem(path: str) -> None:
+    """Worker initializer: the problem from the file the parent wrote (see _run_processes)."""
+    import pickle
+    with open(path, "rb") as fh:
+        _set_problem(pickle.load(fh))
+
+
 def _run_processes(problem: Any, chunks: list[_Chunk], workers: int) -> Iterator[dict[str, Any]]:
     """Chunks on ``workers`` spawned processes, results in order.
 
-    When the run ends early (Ctrl-C, SIGTERM, an error, or the consumer
-    stopping), the worker processes are terminated and joined at once rather
-    than left to finish their chunks, and the pool is shut down, so no
-    worker process outlives the command.
+    The problem goes to the workers through a temporary file, so that starting
+    a worker costs the parent only a fork and an exec: that short start runs
+    with Ctrl-C held off and ignored (:func:`builder.interrupts.signals_held`),
+    so a Ctrl-C reaching the process group never interrupts a worker's start-up
+    with a traceback, and workers then ignore it. When the run ends early
+    (Ctrl-C, SIGTERM, an error, the consumer stopping), pending chunks are
+    cancelled and the workers terminated and joined at once, so no worker
+    process outlives the command.
     """
     import multiprocessing
+    import pickle
+    import tempfile
     from concurrent.futures import ProcessPoolExecutor
 
-    from ..interrupts import stop_processes
+    from ..interrupts import signals_held, stop_processes
     ctx = multiprocessing.get_context("spawn")
-    ex = ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_set_problem,
-                             initargs=(problem,))
+    fd, path = tempfile.mkstemp(prefix="lumpgraph-sweep-", suffix=".pickle")
     finished = False
+    ex = None
     try:
-        futures = [ex.submit(_evaluate_in_worker, c.values, c.ref_pos, c.stop - c.start)
-                   for c in chunks]
+        with os.fdopen(fd, "wb") as fh:
+            pickle.dump(problem, fh, protocol=pickle.HIGHEST_PROTOCOL)
+        ex = ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_load_problem,
+                                 initargs=(path,))
+        with signals_held():
+            futures = [ex.submit(_evaluate_chunk_in_worker, c) for c in chunks]
         for f in futures:
             yield f.result()
         finished = True
     finally:
-        if finished:
+        if ex is not None and finished:
             ex.shutdown(wait=True)
-        else:
+        elif ex is not None:
             processes = list((getattr(ex, "_processes", None) or {}).values())
             ex.shutdown(wait=False, cancel_futures=True)
             stop_processes(processes)
+            ex.shutdown(wait=True)
+        with contextlib.suppress(OSError):
+            os.unlink(path)
 
 
 def _run_dask(problem: Any, chunks: list[_Chunk], cluster: Any) -> Iterator[dict[str, Any]]:
