@@ -34,7 +34,7 @@ from typing import Any, NamedTuple
 
 from .errors import InputError, Where, shown
 
-__all__ = ["quantity", "whole", "fraction", "choice", "pixels", "argtype", "Ceiling",
+__all__ = ["quantity", "whole", "fraction", "choice", "pixels", "argtype", "output_file", "Ceiling",
            "CEILINGS", "ceiling", "refuse_above"]
 
 
@@ -59,9 +59,9 @@ CEILINGS: dict[str, Ceiling] = {
     "sweep --lhs": Ceiling(10_000_000, "as the sweep variants: the hypercube is one variant "
                            "per row"),
     "sweep --samples": Ceiling(10_000_000, "as the sweep variants: one variant per sample"),
-    "render --frames": Ceiling(3_600, "every frame is held in memory before encoding (800x600 "
-                               "RGB: 1.4 MB, 3,600 frames 5 GB) and takes about 0.1 s to draw; "
-                               "a cycle needs 20 to 100"),
+    "render --frames": Ceiling(3_600, "every frame is drawn (about 0.05 s) and held in memory "
+                               "until the cycle is encoded: 3,600 frames are 3 minutes of "
+                               "drawing, and a smooth cycle needs 20 to 100"),
     "render --sheet": Ceiling(64, "a review sheet has 4 columns of 480x360 panels: 64 modes "
                               "make 16 rows, 5,760 pixels tall, within the 8,192-pixel side "
                               "of off-screen windows"),
@@ -204,6 +204,14 @@ def pixels(text: object, option: str = "--size", *, side: str = "render --size",
                          f"got {w}x{h}", where)
     refuse_above(w * h, area, option, f"{w}x{h} =")
     return w, h
+
+
+def output_file(text: str, option: str, suffixes: Sequence[str]) -> str:
+    """An output file name checked by :func:`builder.io.output_path` (suffix, folder,
+    length, write permission), as a reader for :func:`argtype`."""
+    from .io import output_path
+
+    return output_path(text, suffixes, option)
 
 
 def argtype(reader: Callable[..., Any], option: str, *args: Any, **kwargs: Any
