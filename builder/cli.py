@@ -79,6 +79,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     """
     from .interrupts import Terminated, exit_status, handled, stderr_line
 
+    program = argv is None          # run as the program, not called from Python
     argv = list(sys.argv[1:] if argv is None else argv)
     try:
         with handled():
@@ -94,6 +95,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except (KeyboardInterrupt, Terminated) as exc:
         stderr_line("lumpgraph: interrupted" if isinstance(exc, KeyboardInterrupt)
                     else "lumpgraph: terminated")
+        if program:     # the run is over: a further signal must not change its exit status
+            from .interrupts import ignore_further
+            ignore_further()
         return exit_status(exc)
     except BrokenPipeError:
         return 0

@@ -27,7 +27,7 @@ from collections.abc import Iterable, Iterator
 from typing import Any
 
 __all__ = ["Terminated", "handled", "exit_status", "ignore_in_worker", "stop_processes",
-           "signals_held", "stderr_line"]
+           "signals_held", "stderr_line", "ignore_further"]
 
 
 class Terminated(BaseException):
@@ -77,6 +77,13 @@ def handled() -> Iterator[None]:
         for s, h in previous.items():
             signal.signal(s, h if h is not None else signal.SIG_DFL)
         _state["pending"] = 0
+
+
+def ignore_further() -> None:
+    """Ignore SIGINT and SIGTERM from now on (a process whose interrupted run is over
+    and about to exit with 130 or 143)."""
+    for s in (signal.SIGINT, signal.SIGTERM):
+        signal.signal(s, signal.SIG_IGN)
 
 
 def ignore_in_worker() -> None:

@@ -19,13 +19,13 @@ import errno
 import io
 import os
 import tempfile
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Iterator, Sequence
 from typing import Any
 
-from .errors import InputError, Where, shown
+from .errors import MAX_SHOWN, InputError, Where, printable, shown
 
 __all__ = ["write_atomic", "csv_text", "output_path", "output_folder", "OutputError",
-           "write_failure", "STAGING_PREFIX"]
+           "write_failure", "writing", "shown_path", "STAGING_PREFIX"]
 
 #: Name prefix of the temporary files and folders written beside an output.
 STAGING_PREFIX = ".lumpgraph-"
@@ -55,12 +55,30 @@ def _reason(exc: OSError) -> str:
     return reason
 
 
+def shown_path(path: str | os.PathLike[str]) -> str:
+    """A path echoed in a message: escaped, and cut at the front when long, so that the
+    file's own name stays visible (``".../out/sweep.png"``)."""
+    text = printable(os.fspath(path))
+    return f'"{text}"' if len(text) <= MAX_SHOWN else f'"...{text[-(MAX_SHOWN - 3):]}"'
+
+
+@contextlib.contextmanager
+def writing(option: str) -> Iterator[None]:
+    """Write failures inside the block that name no option are given ``option``."""
+    try:
+        yield
+    except OutputError as exc:
+        if exc.where.field or exc.where.file:
+            raise
+        raise OutputError(exc.reason, Where(field=option)) from None
+
+
 def write_failure(exc: OSError, path: str | os.PathLike[str], option: str = "",
                   left: str = "nothing was written") -> OutputError:
     """The one-line error for an ``OSError`` met writing ``path`` (option named if known);
     ``left`` says what the failure left behind."""
     reason = _reason(exc)
-    return OutputError(f"cannot write {shown(os.fspath(path))}: {reason}; {left}",
+    return OutputError(f"cannot write {shown_path(path)}: {reason}; {left}",
                        Where(field=option))
 
 

@@ -15,6 +15,7 @@ import argparse
 import sys
 
 from ..errors import InputError, Where
+from ..io import writing
 from ..options import choice, quantity, whole
 from ._common import add_model_options, load_model, print_json
 
@@ -80,7 +81,8 @@ def _profile(args: argparse.Namespace, speed: float, rate: float,
     assembly, model = load_model(args)
     result = profile_response(model, profile, speed, rate, assembly=assembly)
     if args.plot:
-        result.plot(args.plot)
+        with writing("--plot"):
+            result.plot(args.plot)
     if args.csv:
         write_atomic(args.csv, csv_text(result.to_csv_rows()), "--csv")
     if args.json:
@@ -138,7 +140,8 @@ def run(args: argparse.Namespace) -> int:
                                       20.0 if duration is None else duration, rate, seed=seed,
                                       tracks=args.tracks, assembly=assembly)
     if args.plot:
-        result.plot(args.plot)
+        with writing("--plot"):
+            result.plot(args.plot)
     if args.csv:
         write_atomic(args.csv, csv_text(result.to_csv_rows()), "--csv")
     if args.json:

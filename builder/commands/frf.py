@@ -15,6 +15,7 @@ import math
 import sys
 
 from ..errors import InputError, Where
+from ..io import writing
 from ..quantities import to_si
 from ._common import add_model_options, load_model, print_json
 
@@ -90,7 +91,8 @@ def run(args: argparse.Namespace) -> int:
     f = np.geomspace(band[0], band[1], points)
     result = frequency_response(model, f, inputs=args.inputs, sensors=args.sensors)
     if args.plot:
-        result.plot(args.plot)
+        with writing("--plot"):
+            result.plot(args.plot)
     if args.json:
         print_json(result)
     elif args.csv:

@@ -86,7 +86,9 @@ def run(args: argparse.Namespace) -> int:
         options["road_class"] = opts.road
     if opts.speed is not None:
         options["speed_m_s"] = opts.speed
-    result = plugin.analyse(model, assembly=assembly, **options)
+    from ..io import writing
+    with writing("--plot"):              # a plugin's own plot is its --plot
+        result = plugin.analyse(model, assembly=assembly, **options)
     if opts.json:
         print_json(result)
     else:

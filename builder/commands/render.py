@@ -18,7 +18,7 @@ from __future__ import annotations
 import argparse
 
 from ..errors import InputError, Where
-from ..io import output_path
+from ..io import output_path, writing
 from ..options import argtype, ceiling, fraction, pixels, refuse_above, whole
 from ._common import add_model_options, load_model
 
@@ -78,10 +78,6 @@ def run(args: argparse.Namespace) -> int:
         DEFAULT_SCALE,
         build_scene,
         expanded_modes,
-        export_vtk,
-        save_mode_animation,
-        save_mode_image,
-        save_sheet,
     )
     from ..render.scene import import_pyvista
 
@@ -96,6 +92,16 @@ def run(args: argparse.Namespace) -> int:
                          Where(field="--mode"))
     chosen = drawn[args.mode - 1] if args.mode is not None else None
 
+    with writing("--out"):
+        _draw(args, suffix, scene, dofs, drawn, chosen, out, size, default_size, scale)
+    print(f"wrote {out}")
+    return 0
+
+
+def _draw(args: argparse.Namespace, suffix: str, scene, dofs, drawn, chosen, out: str,
+          size: tuple[int, int] | None, default_size: tuple[int, int], scale: float) -> None:
+    from ..render import export_vtk, save_mode_animation, save_mode_image, save_sheet
+
     if suffix == "vtm":
         export_vtk(scene, dofs, [chosen] if chosen is not None else drawn, out)
     elif args.sheet is not None:
@@ -109,8 +115,6 @@ def run(args: argparse.Namespace) -> int:
     else:
         save_mode_animation(scene, dofs, chosen, out, frames=args.frames, fps=args.fps,
                             view=args.view, scale=scale, size=size or default_size)
-    print(f"wrote {out}")
-    return 0
 
 
 def _save_scene(scene, out: str, size: tuple[int, int], view: str) -> None:

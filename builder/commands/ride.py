@@ -11,6 +11,7 @@ from __future__ import annotations
 import argparse
 
 from ..errors import InputError, Where
+from ..io import writing
 from ..options import choice, quantity, whole
 from ..quantities import to_si
 from ._common import add_model_options, load_model, print_json
@@ -101,7 +102,8 @@ def _profile_run(args: argparse.Namespace) -> int:
     assembly, model = load_model(args)
     result = profile_ride(model, profile, speed, rate, assembly=assembly, sensors=args.sensor)
     if args.plot:
-        result.plot(args.plot)
+        with writing("--plot"):
+            result.plot(args.plot)
     if args.json:
         print_json(result.to_dict(psd=args.psd))
     else:
@@ -136,7 +138,8 @@ def run(args: argparse.Namespace) -> int:
     result = ride_response(model, args.road, speed, waviness=waviness, tracks=args.tracks,
                            band=band, points=points, assembly=assembly, sensors=args.sensor)
     if args.plot:
-        result.plot(args.plot)
+        with writing("--plot"):
+            result.plot(args.plot)
     if args.json:
         print_json(result.to_dict(psd=args.psd))
     else:

@@ -26,6 +26,7 @@ import sys
 from typing import Any
 
 from ..errors import InputError, Where
+from ..io import writing
 from ..options import argtype, whole
 from ._common import add_model_options, print_json
 
@@ -227,7 +228,8 @@ def run(args: argparse.Namespace) -> int:
     if isinstance(problem, sw.ModesProblem):
         result = _with_labels(result, design, args, params, keep)
     if args.plot:
-        result.plot(args.plot, args.plot_against)
+        with writing("--plot"):
+            result.plot(args.plot, args.plot_against)
     if args.json:
         print_json(result)
         return 0
