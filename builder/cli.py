@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import signal
 import sys
 from collections.abc import Sequence
 
@@ -77,18 +78,25 @@ def main(argv: Sequence[str] | None = None) -> int:
     stderr), 130 interrupted by Ctrl-C, 143 by SIGTERM (see
     :mod:`builder.interrupts`).
     """
-    from .interrupts import Terminated, exit_status, handled, stderr_line
+    from .interrupts import Terminated, exit_status, handled, pending, stderr_line
 
     program = argv is None          # run as the program, not called from Python
     argv = list(sys.argv[1:] if argv is None else argv)
     try:
         with handled():
-            parser, module = _build(argv)
-            args = parser.parse_args(argv)
-            if module is None:
-                parser.print_help()
-                return 0 if not argv else 2
-            return int(module.run(args) or 0)
+            try:
+                parser, module = _build(argv)
+                args = parser.parse_args(argv)
+                if module is None:
+                    parser.print_help()
+                    return 0 if not argv else 2
+                return int(module.run(args) or 0)
+            except Exception:
+                signum = pending()
+                if not signum:
+                    raise
+                raise (KeyboardInterrupt() if signum == signal.SIGINT
+                       else Terminated(signum)) from None
     except LumpgraphError as exc:
         print(str(exc), file=sys.stderr)
         return 2

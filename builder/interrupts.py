@@ -27,7 +27,7 @@ from collections.abc import Iterable, Iterator
 from typing import Any
 
 __all__ = ["Terminated", "handled", "exit_status", "ignore_in_worker", "stop_processes",
-           "signals_held", "stderr_line", "ignore_further"]
+           "signals_held", "stderr_line", "ignore_further", "pending"]
 
 
 class Terminated(BaseException):
@@ -46,6 +46,13 @@ def exit_status(exc: BaseException) -> int:
 
 
 _state = {"pending": 0}
+
+
+def pending() -> int:
+    """The signal number received while :func:`handled` is active (0 if none). An
+    exception met after it is the interrupt in disguise: a C extension interrupted in
+    its import (numpy's) turns the KeyboardInterrupt into an ImportError."""
+    return int(_state["pending"])
 
 
 def _handler(signum: int, frame: Any) -> None:
