@@ -103,9 +103,13 @@ def main(argv: Sequence[str] | None = None) -> int:
     except (KeyboardInterrupt, Terminated) as exc:
         stderr_line("lumpgraph: interrupted" if isinstance(exc, KeyboardInterrupt)
                     else "lumpgraph: terminated")
-        if program:     # the run is over: a further signal must not change its exit status
-            from .interrupts import ignore_further
-            ignore_further()
+        if program:
+            # the run is over and cleaned up: leave now with exactly this status. The
+            # interpreter's own exit would turn an interrupt that once passed through
+            # code a C extension ran at import (CPython's unhandled-KeyboardInterrupt
+            # flag) into death by SIGINT, and a further signal could change the status.
+            from .interrupts import exit_now
+            exit_now(exit_status(exc))
         return exit_status(exc)
     except BrokenPipeError:
         return 0

@@ -27,7 +27,7 @@ from collections.abc import Iterable, Iterator
 from typing import Any
 
 __all__ = ["Terminated", "handled", "exit_status", "ignore_in_worker", "stop_processes",
-           "signals_held", "stderr_line", "ignore_further", "pending"]
+           "signals_held", "stderr_line", "exit_now", "pending"]
 
 
 class Terminated(BaseException):
@@ -86,11 +86,20 @@ def handled() -> Iterator[None]:
         _state["pending"] = 0
 
 
-def ignore_further() -> None:
-    """Ignore SIGINT and SIGTERM from now on (a process whose interrupted run is over
-    and about to exit with 130 or 143)."""
+def exit_now(status: int) -> None:
+    """End an interrupted program with ``status``: further signals ignored, stdout and
+    stderr flushed, the exit functions run, then ``os._exit`` (the interpreter's own
+    exit could still report the interrupt as death by SIGINT)."""
+    import atexit
+
     for s in (signal.SIGINT, signal.SIGTERM):
         signal.signal(s, signal.SIG_IGN)
+    with contextlib.suppress(BaseException):
+        atexit._run_exitfuncs()   # multiprocessing's finalizers: semaphores, its tracker
+    for stream in (sys.stdout, sys.stderr):
+        with contextlib.suppress(Exception):
+            stream.flush()
+    os._exit(status)
 
 
 def ignore_in_worker() -> None:
