@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import signal
 import sys
 from collections.abc import Sequence
 
@@ -74,21 +75,45 @@ def _build(argv: Sequence[str]) -> tuple[argparse.ArgumentParser, object]:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    """Entry point of the ``lumpgraph`` command; returns the exit status."""
+    """Entry point of the ``lumpgraph`` command; returns the exit status.
+
+    0 done, 2 bad input or an output that cannot be written (one line on
+    stderr), 130 interrupted by Ctrl-C, 143 by SIGTERM (see
+    :mod:`builder.interrupts`).
+    """
+    from .interrupts import Terminated, exit_status, handled, pending, stderr_line
+
+    program = argv is None          # run as the program, not called from Python
     argv = list(sys.argv[1:] if argv is None else argv)
-    parser, module = _build(argv)
-    args = parser.parse_args(argv)
-    if module is None:
-        parser.print_help()
-        return 0 if not argv else 2
     try:
-        return int(module.run(args) or 0)
+        with handled():
+            try:
+                parser, module = _build(argv)
+                args = parser.parse_args(argv)
+                if module is None:
+                    parser.print_help()
+                    return 0 if not argv else 2
+                return int(module.run(args) or 0)
+            except Exception:
+                signum = pending()
+                if not signum:
+                    raise
+                raise (KeyboardInterrupt() if signum == signal.SIGINT
+                       else Terminated(signum)) from None
     except LumpgraphError as exc:
         print(str(exc), file=sys.stderr)
         return 2
-    except KeyboardInterrupt:
-        print("lumpgraph: interrupted", file=sys.stderr)
-        return 130
+    except (KeyboardInterrupt, Terminated) as exc:
+        stderr_line("lumpgraph: interrupted" if isinstance(exc, KeyboardInterrupt)
+                    else "lumpgraph: terminated")
+        if program:
+            # the run is over and cleaned up: leave now with exactly this status. The
+            # interpreter's own exit would turn an interrupt that once passed through
+            # code a C extension ran at import (CPython's unhandled-KeyboardInterrupt
+            # flag) into death by SIGINT, and a further signal could change the status.
+            from .interrupts import exit_now
+            exit_now(exit_status(exc))
+        return exit_status(exc)
     except BrokenPipeError:
         return 0
 

@@ -658,12 +658,22 @@ def report_html(assembly: Assembly, model: LinearModel, *, sheet: int = 12, road
 def write_report(assembly: Assembly, model: LinearModel, out_dir: str | os.PathLike,
                  **options: Any) -> Path:
     """Write ``out_dir/report.html`` (the folder is created if missing); returns its path."""
-    from .io import write_atomic
+    import shutil
+
+    from .io import write_atomic, write_failure
 
     folder = Path(out_dir)
     if folder.exists() and not folder.is_dir():
         raise InputError(f"{folder} is a file, not a folder", Where(field="--out"))
-    folder.mkdir(parents=True, exist_ok=True)
-    path = folder / REPORT_NAME
-    write_atomic(path, report_html(assembly, model, **options))
+    html = report_html(assembly, model, **options)      # the folder appears only when done
+    made = not folder.exists()
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+        write_atomic(path := folder / REPORT_NAME, html, "--out")
+    except OSError as exc:
+        raise write_failure(exc, folder, "--out") from None
+    except BaseException:
+        if made:
+            shutil.rmtree(folder, ignore_errors=True)
+        raise
     return path

@@ -12,6 +12,7 @@ seconds; benchmarks/fuzz.py runs the same mutations by the ten thousand.
 
 import os
 import random
+import re
 import tempfile
 
 from conftest import ASSEMBLIES
@@ -68,3 +69,66 @@ def test_odd_model_options_end_cleanly(name, option, value, count, output, run_c
         args.append(output)
     code, _, err = run_cli(*args)
     _check_contract(code, err, "", set())
+
+
+# option values of the commands that compute (issue 12, class 2 to 4): a valid call with one
+# or two options replaced by extremes, garbage, values at and past the documented ceilings
+# (builder/options.py) or awkward output paths (a folder, a missing folder, a name too long,
+# /proc, a wrong suffix)
+QUARTER = str(ASSEMBLIES / "quarter_car.yaml")
+BASE_CALLS = {
+    "ride": ["ride", QUARTER, "--road", "C", "--speed", "60 km/h", "--points", "60"],
+    "bump": ["bump", QUARTER, "--height", "40 mm", "--length", "0.6 m", "--speed", "30 km/h"],
+    "frf": ["frf", QUARTER, "--points", "40"],
+    "sweep": ["sweep", QUARTER, "--vary", "ks=15kN/m..30kN/m:3"],
+}
+ODD_NUMBERS = ["0", "-5", "1e20", "99999999999999999999", "nan", "inf", "-inf", "1e-300",
+               "1e308", "${10**400}", "${0**-1}", "5 km^999", "x", "", " ", "0x10", "1_000",
+               "\x1b[31m3", "3\n4", "9" * 400, "4294967296", "200001", "10000001"]
+OPTION_VALUES_BY_COMMAND = {
+    "ride": {"--points": ["2", "200000"], "--speed": ["1e4", "1e-9 m/s"],
+             "--waviness": ["0.5", "5"], "--tracks": ["independent", "sideways"],
+             "--band": ["1:2", "50:1", "0:0", "1:1e400"], "--rate": ["1000"],
+             "--plot": ["{PATH}.png"]},
+    "bump": {"--height": ["1e-9 m", "1e5 m"], "--length": ["1e-9 m", "1e5 m"],
+             "--speed": ["1e4", "1e-9"], "--shape": ["step", "ramp"], "--seed": ["3"],
+             "--duration": ["0.01", "1e9"], "--rate": ["1e9", "1e-9"],
+             "--csv": ["{PATH}.csv"], "--plot": ["{PATH}.png"]},
+    "frf": {"--points": ["2", "1000000"], "--band": ["1:2", "2:1"], "--plot": ["{PATH}.png"],
+            "--from": ["road.fl", "nope"], "--to": ["nope"]},
+    "sweep": {"--lhs": ["3", "10000000"], "--samples": ["2"], "--seed": ["0", "4294967295"],
+              "--workers": ["1", "257"], "--chunk": ["1", "0"], "--modes": ["1", "10001"],
+              "--csv": ["{PATH}.csv"], "--plot": ["{PATH}.png"],
+              "--scatter": ["ks=normal:21kN/m,5%", "ks=bogus"],
+              "--vary": ["ks=1..2:10000001", "ks=15kN/m..30kN/m:²"]},
+}
+PATHS = ["{TMP}/out", "{TMP}/no/out", "/proc/out", "{TMP}/" + "L" * 300, "{TMP}/a_folder",
+         "{TMP}/out.txt#"]
+
+
+@SETTINGS
+@given(command=st.sampled_from(sorted(BASE_CALLS)), data=st.data())
+def test_odd_option_values_end_cleanly(command, data, run_cli):
+    table = OPTION_VALUES_BY_COMMAND[command]
+    flags = data.draw(st.lists(st.sampled_from(sorted(table)), min_size=1, max_size=2,
+                               unique=True))
+    with tempfile.TemporaryDirectory() as folder:
+        os.mkdir(os.path.join(folder, "a_folder"))
+        os.mkdir(os.path.join(folder, "a_folder.png"))
+        args = list(BASE_CALLS[command])
+        for flag in flags:
+            value = data.draw(st.sampled_from(table[flag] + ODD_NUMBERS))
+            if "{PATH}" in value:
+                path = data.draw(st.sampled_from(PATHS))
+                value = value.replace("{PATH}", path) if not path.endswith("#") else \
+                    path[:-1]
+            value = value.replace("{TMP}", folder)
+            if flag in args:
+                args[args.index(flag) + 1] = value
+            else:
+                args += [flag, value]
+        code, out, err = run_cli(*args)
+        made = set(os.listdir(folder)) - {"a_folder", "a_folder.png"}
+        _check_contract(code, err, folder, made)
+        if code == 0:
+            assert not re.search(r"(?<![\w.])(nan|inf)(?![\w.])", out, re.IGNORECASE), out

@@ -27,6 +27,7 @@ grid step by step; in random designs the nominal design.
 from __future__ import annotations
 
 import itertools
+import math
 import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
@@ -150,7 +151,9 @@ def parse_vary(text: str, need_count: bool = True) -> VarySpec:
     high = _quantity(option, text, high_text)
     dim = _common_dim(option, text, (low, high))
     if count_text.strip():
-        if not count_text.strip().isdigit() or int(count_text) < 1:
+        digits = count_text.strip()
+        if not (digits.isascii() and digits.isdigit() and len(digits) <= 18) \
+                or int(digits) < 1:
             raise _opt_error(option, text, f"COUNT must be a whole number >= 1, got {count_text!r}")
         count = int(count_text)
     elif need_count:
@@ -255,6 +258,18 @@ def build_design(vary: Sequence[VarySpec] = (), scatter: Sequence[ScatterSpec] =
         for s in vary:
             if s.count < 1:
                 raise _opt_error("--vary", s.text, "missing :COUNT (the number of values)")
+    from ..options import refuse_above
+    if lhs is not None:
+        refuse_above(lhs, "sweep --lhs", "--lhs")
+    if samples is not None:
+        refuse_above(samples, "sweep --samples", "--samples")
+    grid_size = lhs if lhs is not None else math.prod(max(s.count, 1) for s in vary)
+    option = "--lhs" if lhs is not None else "--vary" if vary else "--samples"
+    refuse_above(grid_size * (samples if scatter and samples else 1), "sweep variants", option,
+                 "the design's variants:")
+    if not 0 <= seed < 2**63:
+        raise InputError(f"must be a whole number from 0 to 2^63 - 1, got {seed}",
+                         Where(field="--seed"))
     rng = np.random.default_rng(seed)
     base = dict(base or {})
     nominal = np.array([base.get(s.name, 0.5 * (s.low + s.high)) for s in vary]

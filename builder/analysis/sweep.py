@@ -27,6 +27,7 @@ sweep keeps every finished row and ``resume=True`` carries on from there.
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import io
 import math
@@ -42,6 +43,8 @@ import numpy as np
 
 from ..errors import InputError, Where
 from ..formatting import engineering_unit_of, in_unit, text_table, unit_of_dimension
+from ..io import write_failure
+from ..plots import save_png
 from .sampling import REF_NOMINAL, REF_NONE, Design
 from .sensitivity import FrequencySensitivities, frequency_sensitivities
 from .tracking import batch_match
@@ -457,8 +460,7 @@ class SweepResult:
         ax.grid(True, alpha=0.3)
         ax.legend(fontsize=7, ncol=1 if self.labels else 2)
         fig.tight_layout()
-        fig.savefig(path)
-        plt.close(fig)
+        save_png(fig, os.fspath(path))
         return str(path)
 
     def histogram(self, path: str | os.PathLike[str], columns: Sequence[str] | None = None,
@@ -484,8 +486,7 @@ class SweepResult:
                          fontsize=8)
             ax.tick_params(labelsize=7)
         fig.tight_layout()
-        fig.savefig(path)
-        plt.close(fig)
+        save_png(fig, os.fspath(path))
         return str(path)
 
 
@@ -531,11 +532,9 @@ _WORKER_PROBLEM: Any = None
 
 def _set_problem(problem: Any) -> None:
     global _WORKER_PROBLEM
+    from ..interrupts import ignore_in_worker
+    ignore_in_worker()          # Ctrl-C reaches the whole group: the parent stops workers
     _WORKER_PROBLEM = problem
-
-
-def _evaluate_in_worker(values: np.ndarray, ref_pos: np.ndarray, k: int) -> dict[str, Any]:
-    return _WORKER_PROBLEM.evaluate(values, ref_pos, k)
 
 
 def _evaluate(problem: Any, values: np.ndarray, ref_pos: np.ndarray, k: int) -> dict[str, Any]:
@@ -578,20 +577,59 @@ def _run_inprocess(problem: Any, chunks: list[_Chunk]) -> Iterator[dict[str, Any
         yield problem.evaluate(c.values, c.ref_pos, c.stop - c.start)
 
 
+def _evaluate_chunk_in_worker(c: _Chunk) -> dict[str, Any]:
+    return _WORKER_PROBLEM.evaluate(c.values, c.ref_pos, c.stop - c.start)
+
+
+def _load_problem(path: str) -> None:
+    """Worker initializer: the problem from the file the parent wrote (see _run_processes)."""
+    import pickle
+    with open(path, "rb") as fh:
+        _set_problem(pickle.load(fh))
+
+
 def _run_processes(problem: Any, chunks: list[_Chunk], workers: int) -> Iterator[dict[str, Any]]:
+    """Chunks on ``workers`` spawned processes, results in order.
+
+    The problem goes to the workers through a temporary file, so that starting
+    a worker costs the parent only a fork and an exec: that short start runs
+    with Ctrl-C held off and ignored (:func:`builder.interrupts.signals_held`),
+    so a Ctrl-C reaching the process group never interrupts a worker's start-up
+    with a traceback, and workers then ignore it. When the run ends early
+    (Ctrl-C, SIGTERM, an error, the consumer stopping), pending chunks are
+    cancelled and the workers terminated and joined at once, so no worker
+    process outlives the command.
+    """
     import multiprocessing
+    import pickle
+    import tempfile
     from concurrent.futures import ProcessPoolExecutor
+
+    from ..interrupts import signals_held, stop_processes
     ctx = multiprocessing.get_context("spawn")
-    with ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_set_problem,
-                             initargs=(problem,)) as ex:
-        futures = [ex.submit(_evaluate_in_worker, c.values, c.ref_pos, c.stop - c.start)
-                   for c in chunks]
-        try:
-            for f in futures:
-                yield f.result()
-        finally:
-            for f in futures:
-                f.cancel()
+    fd, path = tempfile.mkstemp(prefix="lumpgraph-sweep-", suffix=".pickle")
+    finished = False
+    ex = None
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            pickle.dump(problem, fh, protocol=pickle.HIGHEST_PROTOCOL)
+        ex = ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_load_problem,
+                                 initargs=(path,))
+        with signals_held():
+            futures = [ex.submit(_evaluate_chunk_in_worker, c) for c in chunks]
+        for f in futures:
+            yield f.result()
+        finished = True
+    finally:
+        if ex is not None and finished:
+            ex.shutdown(wait=True)
+        elif ex is not None:
+            processes = list((getattr(ex, "_processes", None) or {}).values())
+            ex.shutdown(wait=False, cancel_futures=True)
+            stop_processes(processes)
+            ex.shutdown(wait=True)
+        with contextlib.suppress(OSError):
+            os.unlink(path)
 
 
 def _run_dask(problem: Any, chunks: list[_Chunk], cluster: Any) -> Iterator[dict[str, Any]]:
@@ -631,11 +669,17 @@ def _fmt(x: float) -> str:
 
 
 class _CsvSink:
-    """Append-only CSV, a chunk at a time, flushed and synced."""
+    """Append-only CSV, a chunk at a time, synced; only whole rows ever stay in it.
+
+    A chunk's rows go out in unbuffered writes; when one fails (a full disk,
+    a file size limit) or is interrupted, the file is cut back to the end of
+    the last whole chunk before the error goes on, so the file always ends
+    with a complete row and ``--resume`` continues exactly.
+    """
 
     def __init__(self, path: str, header: list[str]):
         self.path, self.header = path, header
-        self.fh: TextIO | None = None
+        self.fd: int | None = None
 
     def read_done(self) -> list[list[str]]:
         """Complete rows of an earlier run (header checked); the file is rewritten
@@ -659,18 +703,33 @@ class _CsvSink:
     def open(self, fresh: bool) -> None:
         if fresh:
             _write_atomic(self.path, _csv_text([self.header]))
-        self.fh = open(self.path, "a", newline="")
+        try:
+            self.fd = os.open(self.path, os.O_WRONLY | os.O_APPEND)
+        except OSError as exc:
+            raise write_failure(exc, self.path, "--csv") from None
 
     def write(self, rows: list[list[str]]) -> None:
-        assert self.fh is not None
-        self.fh.write(_csv_text(rows))
-        self.fh.flush()
-        os.fsync(self.fh.fileno())
+        assert self.fd is not None
+        data = _csv_text(rows).encode("utf-8")
+        end = os.lseek(self.fd, 0, os.SEEK_END)
+        try:
+            view = memoryview(data)
+            while view:
+                view = view[os.write(self.fd, view):]
+            os.fsync(self.fd)
+        except BaseException as exc:
+            with contextlib.suppress(OSError):
+                os.ftruncate(self.fd, end)     # back to the last whole row
+            if isinstance(exc, OSError):
+                raise write_failure(exc, self.path, "--csv", "the file keeps the whole rows "
+                                    "written before it; --resume continues") from None
+            raise
 
     def close(self) -> None:
-        if self.fh is not None:
-            self.fh.close()
-            self.fh = None
+        if self.fd is not None:
+            with contextlib.suppress(OSError):
+                os.close(self.fd)
+            self.fd = None
 
 
 def _csv_text(rows: list[list[str]]) -> str:
@@ -733,7 +792,7 @@ def run_sweep(problem: Any, design: Design, *, workers: int | None = None,
     else:
         stream = _run_inprocess(problem, chunks)
     try:
-        for c, out in zip(chunks, stream, strict=False):
+        for c, out in zip(chunks, stream, strict=True):
             _store(c, out, design, results, ranks, m)
             if sink is not None:
                 sink.write(_rows(c.start, c.stop, design, results, ranks))

@@ -15,7 +15,8 @@ import argparse
 import sys
 
 from ..errors import InputError, Where
-from ..quantities import to_si
+from ..io import writing
+from ..options import choice, quantity, whole
 from ._common import add_model_options, load_model, print_json
 
 HELP = "transient response to a bump, pothole or step"
@@ -53,10 +54,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 
 def _quantity(text: str, option: str, dimension: str) -> float:
-    try:
-        return to_si(text, dimension, Where(field=option))
-    except InputError as exc:
-        raise InputError(exc.reason, Where(field=option)) from None
+    """A positive quantity read by :func:`builder.options.quantity`."""
+    return quantity(text, option, dimension)
 
 
 def _profile(args: argparse.Namespace, speed: float, rate: float,
@@ -82,9 +81,10 @@ def _profile(args: argparse.Namespace, speed: float, rate: float,
     assembly, model = load_model(args)
     result = profile_response(model, profile, speed, rate, assembly=assembly)
     if args.plot:
-        result.plot(args.plot)
+        with writing("--plot"):
+            result.plot(args.plot)
     if args.csv:
-        write_atomic(args.csv, csv_text(result.to_csv_rows()))
+        write_atomic(args.csv, csv_text(result.to_csv_rows()), "--csv")
     if args.json:
         out = result.to_dict()
         out["profile"] = spectrum.to_dict()
@@ -115,9 +115,8 @@ def run(args: argparse.Namespace) -> int:
     event = None
     if args.profile is not None:
         return _profile(args, speed, rate, duration)
-    if args.road is None and args.shape not in SHAPES:
-        raise InputError(f'unknown shape "{args.shape}": choose bump, pothole or step',
-                         Where(field="--shape"))
+    if args.road is None:
+        args.shape = choice(args.shape, "--shape", SHAPES)
     if args.road is None:
         for option, value in (("--height", args.height), ("--length", args.length)):
             if value is None:
@@ -127,18 +126,8 @@ def run(args: argparse.Namespace) -> int:
                            _quantity(args.length, "--length", "length"))
     else:
         road.class_value(args.road)
-        if args.tracks not in road.TRACK_MODELS:
-            raise InputError(f'unknown track model "{args.tracks}": choose identical, '
-                             "independent or coherent", Where(field="--tracks"))
-    seed = None
-    if args.seed is not None:
-        try:
-            seed = int(args.seed)
-        except ValueError:
-            raise InputError(f'must be a whole number, got "{args.seed}"',
-                             Where(field="--seed")) from None
-        if seed < 0:
-            raise InputError(f"must be zero or positive, got {seed}", Where(field="--seed"))
+        args.tracks = choice(args.tracks, "--tracks", road.TRACK_MODELS)
+    seed = None if args.seed is None else whole(args.seed, "--seed", 0, 2**32 - 1)
     if args.plot:
         output_path(args.plot, (".png",), "--plot")
     if args.csv:
@@ -151,9 +140,10 @@ def run(args: argparse.Namespace) -> int:
                                       20.0 if duration is None else duration, rate, seed=seed,
                                       tracks=args.tracks, assembly=assembly)
     if args.plot:
-        result.plot(args.plot)
+        with writing("--plot"):
+            result.plot(args.plot)
     if args.csv:
-        write_atomic(args.csv, csv_text(result.to_csv_rows()))
+        write_atomic(args.csv, csv_text(result.to_csv_rows()), "--csv")
     if args.json:
         print_json(result)
     else:

@@ -13,7 +13,7 @@ import argparse
 import sys
 
 from ..analysis.correlation import correlate
-from ..io import csv_text, output_path
+from ..io import csv_text, output_path, writing
 from ..measured_files import read_measured
 from ._common import add_model_options, load_model, print_json
 from ._measured import add_measured_option, parse_threshold
@@ -41,7 +41,8 @@ def run(args: argparse.Namespace) -> int:
     _, model = load_model(args)
     result = correlate(model, measured, threshold=threshold, mode_count=args.count)
     if plot:
-        result.plot(plot)
+        with writing("--plot"):
+            result.plot(plot)
     if args.json:
         print_json(result)
     elif args.csv:

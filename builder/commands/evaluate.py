@@ -13,6 +13,7 @@ from __future__ import annotations
 import argparse
 
 from ..errors import InputError, Where
+from ..io import writing
 from ..quantities import to_si
 from ._common import print_json
 
@@ -110,7 +111,8 @@ def run(args: argparse.Namespace) -> int:
             raise
         raise InputError(exc.reason, Where(field=field)) from None
     if args.plot:
-        result.plot(args.plot)
+        with writing("--plot"):
+            result.plot(args.plot)
     if args.spectrum:
         result.plot_bands(args.spectrum)
     if args.json:

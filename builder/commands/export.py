@@ -59,7 +59,9 @@ def run(args: argparse.Namespace) -> int:
         from ..analysis.modes import compute_modes
 
         modes = compute_modes(model, count)
-    files = write_export(model, args.to, form, modes)
+    from ..io import writing
+    with writing("--to"):
+        files = write_export(model, args.to, form, modes)
     what = {"matrices": "matrices", "state-space": "state space", "modal": "modal model"}[form]
     print(f"{model.name}: {what} of {model.n} DOFs, {len(model.inputs)} inputs, "
           f"{len(model.sensors)} sensors written to {', '.join(files)}")

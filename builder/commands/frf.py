@@ -15,6 +15,7 @@ import math
 import sys
 
 from ..errors import InputError, Where
+from ..io import writing
 from ..quantities import to_si
 from ._common import add_model_options, load_model, print_json
 
@@ -60,16 +61,12 @@ def parse_band(text: str | None, default: tuple[float, float]) -> tuple[float, f
 
 
 def parse_points(text: str | None, default: int) -> int:
-    """A whole number of points, 2 to 1,000,000."""
+    """A whole number of points, 2 to the ceiling (``builder.options.CEILINGS``)."""
+    from ..options import whole
+
     if text is None:
         return default
-    try:
-        value = int(text)
-    except ValueError:
-        raise InputError(f'must be a whole number, got "{text}"', Where(field="--points")) from None
-    if not 2 <= value <= 1_000_000:
-        raise InputError(f"needs 2 to 1000000 points, got {value}", Where(field="--points"))
-    return value
+    return whole(text, "--points", 2, ceiling_key="frf --points")
 
 
 def run(args: argparse.Namespace) -> int:
@@ -94,7 +91,8 @@ def run(args: argparse.Namespace) -> int:
     f = np.geomspace(band[0], band[1], points)
     result = frequency_response(model, f, inputs=args.inputs, sensors=args.sensors)
     if args.plot:
-        result.plot(args.plot)
+        with writing("--plot"):
+            result.plot(args.plot)
     if args.json:
         print_json(result)
     elif args.csv:

@@ -51,17 +51,38 @@ def _print_parameters(params: object, indent: str) -> None:
             _print_parameters(fields, indent + "    ")
 
 
+def _options(plugin: object) -> list[dict[str, str]]:
+    from .plugin import plugin_options
+    if not callable(getattr(plugin, "analyse", None)):
+        return []
+    return plugin_options(plugin)
+
+
+def _print_options(plugin: object) -> None:
+    options = _options(plugin)
+    if not options:
+        return
+    print(f"  options of 'lumpgraph plugin {plugin.name} FILE' (beside --depth, --keep, "
+          "--road, --speed, --json):")
+    heads = [f"{o['option']} {o['metavar']}".strip() for o in options]
+    width = max(len(h) for h in heads)
+    for head, o in zip(heads, options, strict=True):
+        print(f"    {head:<{width}}  {o['help']}")
+
+
 def run(args: argparse.Namespace) -> int:
     plugins, problems = installed_plugins()
     if args.json:
         print_json({"plugins": [
             {"name": p.name, "summary": getattr(p, "summary", ""),
-             "parameters": [_declared(q) for q in p.parameters]}
+             "parameters": [_declared(q) for q in p.parameters],
+             "options": _options(p)}
             for p in plugins.values()], "problems": problems})
         return 0
     for p in plugins.values():
         print(f"{p.name}: {getattr(p, 'summary', '')}")
         _print_parameters(p.parameters, "  ")
+        _print_options(p)
         print()
     for problem in problems:
         print(f"warning: {problem}")

@@ -18,7 +18,8 @@ from __future__ import annotations
 import argparse
 
 from ..errors import InputError, Where
-from ..io import output_path
+from ..io import output_path, writing
+from ..options import argtype, ceiling, fraction, pixels, refuse_above, whole
 from ._common import add_model_options, load_model
 
 HELP = "3D picture or animation of a mode, or a review sheet"
@@ -29,22 +30,28 @@ _VIEWS = ("side", "front", "top", "iso")
 def configure(parser: argparse.ArgumentParser) -> None:
     add_model_options(parser)
     what = parser.add_mutually_exclusive_group()
-    what.add_argument("--mode", type=int, metavar="N", help="draw mode N (1 = lowest)")
-    what.add_argument("--sheet", type=int, metavar="N",
+    what.add_argument("--mode", type=argtype(whole, "--mode", 1, 100_000), metavar="N",
+                      help="draw mode N (1 = lowest)")
+    what.add_argument("--sheet", type=argtype(whole, "--sheet", 1, ceiling_key="render --sheet"),
+                      metavar="N",
                       help="review sheet of the lowest N modes (rigid-body modes left out)")
     parser.add_argument("--out", required=True, metavar="PATH",
                         help="output file: .png, .gif, .mp4 (needs ffmpeg) or .vtm")
     parser.add_argument("--view", choices=_VIEWS,
                         help="camera (default: side for pitch, front for roll, iso otherwise)")
-    parser.add_argument("--scale", type=float, default=None, metavar="X",
+    parser.add_argument("--scale", type=argtype(fraction, "--scale", 0.0, 10.0), default=None,
+                        metavar="X",
                         help="largest drawn displacement as a fraction of the vehicle size "
                              "(default 0.08)")
     parser.add_argument("--size", metavar="WxH",
                         help="image size in pixels (default 1024x768; GIF 800x600; sheet "
                              "480x360 per panel)")
-    parser.add_argument("--frames", type=int, default=36, metavar="N",
-                        help="frames in an animated cycle (default 36)")
-    parser.add_argument("--fps", type=float, default=18.0, help="animation frame rate")
+    parser.add_argument("--frames", type=argtype(whole, "--frames", 2,
+                                                 ceiling_key="render --frames"),
+                        default=36, metavar="N", help="frames in an animated cycle (default 36, "
+                        f"at most {ceiling('render --frames').value:,})")
+    parser.add_argument("--fps", type=argtype(fraction, "--fps", 0.0, 100.0, low_open=True),
+                        default=18.0, help="animation frame rate (above 0, at most 100)")
     parser.add_argument("--solid", choices=("box", "ellipsoid"), default="box",
                         help="solid drawn for bodies without a shape (same mass and inertia)")
 
@@ -56,23 +63,21 @@ def run(args: argparse.Namespace) -> int:
         raise InputError("an animation needs --mode N", Where(field="--out"))
     if args.sheet is not None and suffix != "png":
         raise InputError("the review sheet is a .png", Where(field="--out"))
-    if not args.fps > 0:
-        raise InputError(f"must be positive, got {args.fps}", Where(field="--fps"))
-    if args.frames < 2:
-        raise InputError(f"need at least 2 frames, got {args.frames}", Where(field="--frames"))
-    if args.scale is not None and not args.scale >= 0:
-        raise InputError(f"must be a fraction >= 0, got {args.scale}", Where(field="--scale"))
+    animated = suffix in ("gif", "mp4")
+    default_size = (800, 600) if animated else (1024, 768)
+    size = pixels(args.size, "--size") if args.size else None
+    if animated:
+        w, h = size or default_size
+        if suffix == "gif":
+            refuse_above(w * h, "render GIF area", "--size", f"{w}x{h} =")
+        refuse_above(w * h * args.frames, "render GIF frames x area", "--frames",
+                     f"{args.frames} frames of {w}x{h} =")
 
     from ..analysis.modes import compute_modes
     from ..render import (
         DEFAULT_SCALE,
         build_scene,
         expanded_modes,
-        export_vtk,
-        parse_size,
-        save_mode_animation,
-        save_mode_image,
-        save_sheet,
     )
     from ..render.scene import import_pyvista
 
@@ -87,22 +92,29 @@ def run(args: argparse.Namespace) -> int:
                          Where(field="--mode"))
     chosen = drawn[args.mode - 1] if args.mode is not None else None
 
+    with writing("--out"):
+        _draw(args, suffix, scene, dofs, drawn, chosen, out, size, default_size, scale)
+    print(f"wrote {out}")
+    return 0
+
+
+def _draw(args: argparse.Namespace, suffix: str, scene, dofs, drawn, chosen, out: str,
+          size: tuple[int, int] | None, default_size: tuple[int, int], scale: float) -> None:
+    from ..render import export_vtk, save_mode_animation, save_mode_image, save_sheet
+
     if suffix == "vtm":
         export_vtk(scene, dofs, [chosen] if chosen is not None else drawn, out)
     elif args.sheet is not None:
-        size = parse_size(args.size, None) if args.size else None
         save_sheet(scene, dofs, drawn, out, args.sheet, size=size, view=args.view, scale=scale)
     elif suffix == "png":
-        size = parse_size(args.size, (1024, 768))
+        size = size or default_size
         if chosen is None:
             _save_scene(scene, out, size, args.view or "iso")
         else:
             save_mode_image(scene, dofs, chosen, out, view=args.view, scale=scale, size=size)
     else:
         save_mode_animation(scene, dofs, chosen, out, frames=args.frames, fps=args.fps,
-                            view=args.view, scale=scale, size=parse_size(args.size, (800, 600)))
-    print(f"wrote {out}")
-    return 0
+                            view=args.view, scale=scale, size=size or default_size)
 
 
 def _save_scene(scene, out: str, size: tuple[int, int], view: str) -> None:

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import argparse
 
-from ..errors import InputError, Where
+from ..options import argtype, quantity, whole
 from ._common import add_model_options, load_model
 from ._measured import add_measured_option, parse_threshold
 
@@ -22,7 +22,8 @@ def configure(parser: argparse.ArgumentParser) -> None:
     add_model_options(parser)
     parser.add_argument("--out", required=True, metavar="DIR",
                         help="folder for report.html (created if missing)")
-    parser.add_argument("--sheet", type=int, default=12, metavar="N",
+    parser.add_argument("--sheet", type=argtype(whole, "--sheet", 1, ceiling_key="render --sheet"),
+                        default=12, metavar="N",
                         help="modes on the review sheet (default 12)")
     parser.add_argument("--road", default="B", metavar="CLASS",
                         help="ISO 8608 road class A..H for the ride section (default B)")
@@ -32,15 +33,14 @@ def configure(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..quantities import to_si
+    from ..analysis import road
+    from ..io import output_folder
     from ..render.scene import import_pyvista
     from ..report import write_report
 
-    if args.sheet < 1:
-        raise InputError(f"must be at least 1, got {args.sheet}", Where(field="--sheet"))
-    speed = to_si(args.speed, "speed", Where(field="--speed"))
-    if not speed > 0:
-        raise InputError(f"must be positive, got {args.speed}", Where(field="--speed"))
+    speed = quantity(args.speed, "--speed", "speed")
+    road.class_value(args.road)
+    output_folder(args.out, "--out")
     threshold = parse_threshold(args.threshold)
     measured = None
     if args.measured:

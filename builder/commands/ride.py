@@ -11,6 +11,8 @@ from __future__ import annotations
 import argparse
 
 from ..errors import InputError, Where
+from ..io import writing
+from ..options import choice, quantity, whole
 from ..quantities import to_si
 from ._common import add_model_options, load_model, print_json
 
@@ -66,10 +68,8 @@ def _band(text: str | None) -> tuple[float, float]:
 
 
 def _number(text: str, option: str, dimension: str) -> float:
-    try:
-        return to_si(text, dimension, Where(field=option))
-    except InputError as exc:
-        raise InputError(exc.reason, Where(field=option)) from None
+    """A positive quantity read by :func:`builder.options.quantity`."""
+    return quantity(text, option, dimension)
 
 
 def _points(text: str | None) -> int:
@@ -77,13 +77,7 @@ def _points(text: str | None) -> int:
 
     if text is None:
         return DEFAULT_POINTS
-    try:
-        value = int(text)
-    except ValueError:
-        raise InputError(f'must be a whole number, got "{text}"', Where(field="--points")) from None
-    if value < 2:
-        raise InputError(f"needs at least 2 points, got {value}", Where(field="--points"))
-    return value
+    return whole(text, "--points", 2, ceiling_key="ride --points")
 
 
 def _profile_run(args: argparse.Namespace) -> int:
@@ -108,7 +102,8 @@ def _profile_run(args: argparse.Namespace) -> int:
     assembly, model = load_model(args)
     result = profile_ride(model, profile, speed, rate, assembly=assembly, sensors=args.sensor)
     if args.plot:
-        result.plot(args.plot)
+        with writing("--plot"):
+            result.plot(args.plot)
     if args.json:
         print_json(result.to_dict(psd=args.psd))
     else:
@@ -133,10 +128,9 @@ def run(args: argparse.Namespace) -> int:
                          Where(field="--road"))
     road.class_value(args.road)
     speed = road.check_speed(_number(args.speed, "--speed", "speed"))
-    waviness = _number(args.waviness, "--waviness", "dimensionless")
-    if args.tracks not in road.TRACK_MODELS:
-        raise InputError(f'unknown track model "{args.tracks}": choose identical, independent '
-                         "or coherent", Where(field="--tracks"))
+    waviness = quantity(args.waviness, "--waviness", "dimensionless", low=0.5, high=5.0,
+                        unit="(ISO 8608 roads: about 1.5 to 3.5)")
+    args.tracks = choice(args.tracks, "--tracks", road.TRACK_MODELS)
     band, points = _band(args.band), _points(args.points)
     if args.plot:
         output_path(args.plot, (".png",), "--plot")
@@ -144,7 +138,8 @@ def run(args: argparse.Namespace) -> int:
     result = ride_response(model, args.road, speed, waviness=waviness, tracks=args.tracks,
                            band=band, points=points, assembly=assembly, sensors=args.sensor)
     if args.plot:
-        result.plot(args.plot)
+        with writing("--plot"):
+            result.plot(args.plot)
     if args.json:
         print_json(result.to_dict(psd=args.psd))
     else:

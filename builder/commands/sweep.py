@@ -26,6 +26,8 @@ import sys
 from typing import Any
 
 from ..errors import InputError, Where
+from ..io import writing
+from ..options import argtype, whole
 from ._common import add_model_options, print_json
 
 HELP = "sweeps, scatter, sensitivities and targets over file parameters"
@@ -42,20 +44,24 @@ def configure(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--vary", action="append", default=[], metavar="NAME=LOW..HIGH:COUNT",
                         help="sweep a file parameter, e.g. ks_front=15kN/m..30kN/m:16 "
                         "(repeatable: full grid)")
-    parser.add_argument("--lhs", type=int, default=None, metavar="N",
+    parser.add_argument("--lhs", type=argtype(whole, "--lhs", 1, ceiling_key="sweep --lhs"),
+                        default=None, metavar="N",
                         help="a Latin hypercube of N variants over the --vary ranges")
     parser.add_argument("--scatter", action="append", default=[], metavar="NAME=DIST",
                         help="Monte Carlo scatter: NAME=normal:MEAN,SD (SD may be 5%%) or "
                         "NAME=uniform:LOW,HIGH (repeatable)")
-    parser.add_argument("--samples", type=int, default=None, metavar="N",
+    parser.add_argument("--samples", default=None, metavar="N",
+                        type=argtype(whole, "--samples", 1, ceiling_key="sweep --samples"),
                         help="number of Monte Carlo samples")
-    parser.add_argument("--seed", type=int, default=0, metavar="S",
+    parser.add_argument("--seed", type=argtype(whole, "--seed", 0, 2**32 - 1), default=0,
+                        metavar="S",
                         help="seed of every random draw (default 0)")
     parser.add_argument("--result", action="append", default=None, metavar="WHAT",
                         help="modes (default), ride:SENSOR, or plugin:NAME:PATH (a number in "
                         "the plugin's JSON result, e.g. plugin:seat:seats.0.ride.x) "
                         "(repeatable)")
-    parser.add_argument("--modes", type=int, default=None, metavar="N",
+    parser.add_argument("--modes", type=argtype(whole, "--modes", 1, 10_000), default=None,
+                        metavar="N",
                         help="number of tracked modes to report (default all, at most 12)")
     parser.add_argument("--road", default=None, metavar="CLASS",
                         help="ISO 8608 road class for ride results")
@@ -71,11 +77,13 @@ def configure(parser: argparse.ArgumentParser) -> None:
                         help="parameter on the plot's x axis (default the last --vary)")
     parser.add_argument("--json", action="store_true", help="print the result as JSON")
     where = parser.add_mutually_exclusive_group()
-    where.add_argument("--workers", type=int, default=None, metavar="N",
+    where.add_argument("--workers", type=argtype(whole, "--workers", 1, 256), default=None,
+                       metavar="N",
                        help="run on N local processes")
     where.add_argument("--cluster", default=None, metavar="ADDRESS",
                        help="run on a Dask scheduler, e.g. tcp://10.0.0.5:8786")
-    parser.add_argument("--chunk", type=int, default=None, metavar="N",
+    parser.add_argument("--chunk", type=argtype(whole, "--chunk", 1, 1_000_000), default=None,
+                        metavar="N",
                         help="variants per task (default 500)")
     parser.add_argument("--no-progress", action="store_true", help="no progress bar")
     parser.add_argument("--sensitivity", action="store_true",
@@ -175,6 +183,9 @@ def run(args: argparse.Namespace) -> int:
     sw._check_names(params, names, [s.dim for s in specs] + [s.dim for s in scatter])
     design = sampling.build_design(specs, scatter, args.lhs, args.samples, args.seed,
                                    base={n: params[n].value for n in names})
+    if args.plot_against and args.plot_against not in design.names:
+        raise InputError(f'"{args.plot_against}" is not a swept parameter',
+                         Where(field="--plot-against"))
     units = tuple(_unit(params[n].dim) for n in design.names)
     results = args.result or ["modes"]
     if "modes" in results:
@@ -217,10 +228,8 @@ def run(args: argparse.Namespace) -> int:
     if isinstance(problem, sw.ModesProblem):
         result = _with_labels(result, design, args, params, keep)
     if args.plot:
-        if args.plot_against and args.plot_against not in design.names:
-            raise InputError(f'"{args.plot_against}" is not a swept parameter',
-                             Where(field="--plot-against"))
-        result.plot(args.plot, args.plot_against)
+        with writing("--plot"):
+            result.plot(args.plot, args.plot_against)
     if args.json:
         print_json(result)
         return 0

@@ -20,7 +20,7 @@ import sys
 from ..analysis.sampling import parse_vary
 from ..analysis.updating import update
 from ..errors import InputError, Where
-from ..io import output_path, write_atomic
+from ..io import output_path, write_atomic, writing
 from ..measured_files import read_measured
 from ._common import add_file_option, print_json
 from ._measured import add_measured_option, parse_threshold
@@ -105,7 +105,8 @@ def run(args: argparse.Namespace) -> int:
     if out_yaml:
         write_atomic(out_yaml, result.parameters_yaml())
     if plot:
-        result.plot(plot)
+        with writing("--plot"):
+            result.plot(plot)
     if args.json:
         print_json(result)
         return 0

@@ -29,7 +29,8 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import InputError, Where, shown
+from ..io import STAGING_PREFIX, OutputError, write_failure
 from .modeshape import _get, mode_field
 from .scene import Scene, import_pyvista
 from .sheet import mode_list
@@ -75,20 +76,78 @@ def scene_blocks(scene: Scene, dofs: Sequence[str], modes: Any) -> Any:
     return blocks
 
 
+def _piece_text(mesh: Any) -> str:
+    """One block as the text of a ``.vtp`` file (VTK's XML writer, base64 binary data,
+    zlib-compressed), made in memory: VTK never writes to the disk, whose failures
+    (a full disk, a file size limit) it only logs and can crash on."""
+    from vtkmodules.vtkIOXML import vtkXMLPolyDataWriter
+
+    writer = vtkXMLPolyDataWriter()
+    writer.SetInputData(mesh)
+    writer.SetDataModeToBinary()              # inline base64: the text is ASCII
+    writer.SetCompressorTypeToZLib()
+    writer.WriteToOutputStringOn()
+    if not writer.Write():
+        raise RuntimeError("the VTK writer failed")
+    return writer.GetOutputString()
+
+
+def _index_text(names: Sequence[str], folder: str) -> str:
+    """The multiblock ``.vtm`` index of the pieces ``folder/folder_K.vtp``."""
+    from xml.sax.saxutils import quoteattr
+
+    rows = "".join(f'    <DataSet index="{k}" name={quoteattr(name)} '
+                   f'file={quoteattr(f"{folder}/{folder}_{k}.vtp")}/>\n'
+                   for k, name in enumerate(names))
+    return ('<?xml version="1.0"?>\n<VTKFile type="vtkMultiBlockDataSet" version="1.0" '
+            'byte_order="LittleEndian" header_type="UInt32" '
+            'compressor="vtkZLibDataCompressor">\n  <vtkMultiBlockDataSet>\n'
+            f"{rows}  </vtkMultiBlockDataSet>\n</VTKFile>\n")
+
+
+def _save_staged(blocks: Any, staged: Path, path: Path) -> None:
+    """The multiblock and its pieces written under ``staged`` (Python's own writes: a
+    failure is an OSError, raised as a one-line OutputError naming ``--out``)."""
+    pv = import_pyvista()
+    folder = staged.stem
+    names = list(blocks.keys())
+    try:
+        with pv.VtkErrorCatcher(raise_errors=True, send_to_logging=False):
+            texts = [_piece_text(blocks[name]) for name in names]
+    except RuntimeError:
+        raise OutputError(f"cannot write {shown(str(path))}: the VTK writer failed; "
+                          "nothing was written", Where(field="--out")) from None
+    try:
+        (staged.parent / folder).mkdir()
+        for k, text in enumerate(texts):
+            (staged.parent / folder / f"{folder}_{k}.vtp").write_text(text, encoding="ascii")
+        staged.write_text(_index_text(names, folder), encoding="utf-8")
+    except OSError as exc:
+        raise write_failure(exc, path, "--out") from None
+
+
 def export_vtk(scene: Scene, dofs: Sequence[str], modes: Any, path: str | os.PathLike) -> Path:
     """Write the scene and mode shapes to ``path`` (``.vtm``) and its piece folder.
 
-    The files are written in a temporary folder beside ``path`` and then
-    moved into place, so a failed export leaves no half-written set.
+    VTK's XML writer makes each piece in memory; Python writes the pieces and the
+    index in a temporary folder beside ``path`` and then moves them into place,
+    so a failed write (a full disk, a file size limit) is a one-line
+    :class:`~builder.io.OutputError` and leaves no half-written set, and the
+    staging folder is removed whatever happens. (VTK writing to a failing disk
+    itself only logs the error, and was seen to crash.)
     """
     path = Path(path)
     if path.suffix.lower() != ".vtm":
         raise InputError(f"--out: a VTK multiblock file ends in .vtm, got {path.name!r}")
     blocks = scene_blocks(scene, dofs, modes)
     parent = path.parent if str(path.parent) else Path(".")
-    with tempfile.TemporaryDirectory(prefix=f".{path.stem}.", dir=parent) as tmp:
+    try:
+        staging = tempfile.TemporaryDirectory(prefix=f"{STAGING_PREFIX}{path.stem}.", dir=parent)
+    except OSError as exc:
+        raise write_failure(exc, path, "--out") from None
+    with staging as tmp:
         staged = Path(tmp) / path.name
-        blocks.save(str(staged), binary=True)
+        _save_staged(blocks, staged, path)
         pieces = Path(tmp) / path.stem
         target = parent / path.stem
         if pieces.is_dir():

@@ -35,13 +35,22 @@ class EnginePlugin:
         return add_engine(assembly, spec)
 
     def configure_cli(self, parser: argparse.ArgumentParser) -> None:
-        parser.add_argument("--axes", choices=("crank", "principal"), default="crank",
-                            help="axes of the decoupling table")
-        parser.add_argument("--target-roll", metavar="HZ", type=float,
-                            help="target roll frequency for mount-rate scaling")
-        parser.add_argument("--target-bounce", metavar="HZ", type=float,
-                            help="target bounce frequency for mount-rate scaling")
-        parser.add_argument("--plot", metavar="FILE", help="write the order plot")
+        from builder.options import argtype, choice, output_file, quantity
+
+        parser.add_argument("--axes", type=argtype(choice, "--axes", ("crank", "principal")),
+                            default="crank", metavar="AXES",
+                            help="axes of the decoupling table: crank (default) or principal")
+        parser.add_argument("--target-roll", metavar="HZ",
+                            type=argtype(quantity, "--target-roll", "frequency", high=1000.0,
+                                         unit="Hz"),
+                            help="target roll frequency for mount-rate scaling (Hz)")
+        parser.add_argument("--target-bounce", metavar="HZ",
+                            type=argtype(quantity, "--target-bounce", "frequency", high=1000.0,
+                                         unit="Hz"),
+                            help="target bounce frequency for mount-rate scaling (Hz)")
+        parser.add_argument("--plot", metavar="OUT.png",
+                            type=argtype(output_file, "--plot", (".png",)),
+                            help="write the order plot (PNG)")
 
     def label_units(self, assembly: Any, spec: EngineSpec) -> list[Any]:
         """The powertrain as one label unit, in its crank-aligned words (roll = about

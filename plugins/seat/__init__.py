@@ -29,7 +29,6 @@ from typing import Any
 
 from builder.errors import InputError, Where
 from builder.plugin import Parameter
-from builder.quantities import to_si
 
 from .build import SeatSpec, add_seat
 from .occupants import OCCUPANT_MODELS
@@ -158,10 +157,15 @@ class SeatPlugin:
 
     def configure_cli(self, parser: Any) -> None:
         """Options of ``lumpgraph plugin seat FILE`` beside --road and --speed."""
+        from builder.options import argtype, choice, output_file
+        from builder.options import quantity as read_quantity
+
         def quantity(dimension: str, option: str) -> Any:
-            return lambda text: to_si(text, dimension, Where(field=option), sign="positive")
+            return argtype(read_quantity, option, dimension)
 
         parser.add_argument("--tracks", metavar="MODEL",
+                            type=argtype(choice, "--tracks",
+                                         ("identical", "independent", "coherent")),
                             help="left and right tracks: identical, independent or coherent "
                                  "(default)")
         parser.add_argument("--bump-speed", dest="bump_speed_m_s", metavar="V",
@@ -174,7 +178,7 @@ class SeatPlugin:
                             type=quantity("length", "--bump-length"),
                             help='bump length (default "0.5 m")')
         parser.add_argument("--bump-shape", dest="bump_shape", metavar="SHAPE",
-                            choices=("bump", "pothole", "step"),
+                            type=argtype(choice, "--bump-shape", ("bump", "pothole", "step")),
                             help="road event: bump (default), pothole or step")
         parser.add_argument("--no-bump", dest="no_bump", action="store_true", default=None,
                             help="leave out the bump figures")
@@ -183,6 +187,7 @@ class SeatPlugin:
                             help='tune the cushion for the road, keeping 3 x RMS travel '
                                  'within this stroke (e.g. "30 mm")')
         parser.add_argument("--plot", dest="plot", metavar="OUT.png",
+                            type=argtype(output_file, "--plot", (".png",)),
                             help="write the occupant's apparent mass and seat-to-head "
                                  "transmissibility plot (one file per seat: NAME added)")
 

@@ -59,10 +59,12 @@ class FlexibleBodyModes:
         lines = [f"flexible body {self.chain}: {self.segments} segments", head + "  label"]
         for i, (f, lab, el) in enumerate(zip(self.frequencies_hz, self.labels, self.elastic)):
             row = f"{i + 1:>4}  {f:9.3f}"
-            if self.reduced_frequencies_hz is not None:
+            if self.reduced_frequencies_hz is not None and i < len(self.reduced_frequencies_hz):
                 g = self.reduced_frequencies_hz[i]
                 diff = 100 * (g / f - 1) if f > 0 else 0.0
                 row += f"  {g:9.3f}  {diff:7.3f}"
+            elif self.reduced_frequencies_hz is not None:     # the reduced model has fewer
+                row += f"  {'-':>9}  {'-':>7}"
             lines.append(f"{row}  {'* ' if el else ''}{lab}")
         lines.append("* the body's own elastic modes")
         lines.extend(f"note: {n}" for n in self.notes)
@@ -99,6 +101,9 @@ def flexible_body_modes(model: LinearModel, chain: str | None = None, count: int
         lam_r, _ = lowest_modes(reduced.K, reduced.M, min(count, reduced.n))
         reduced_f = natural_frequencies_hz(lam_r)
         reduced_n = reduced.n
+        if reduced.n < len(modes.frequencies_hz):
+            notes.append(f"the Craig-Bampton model has {reduced.n} DOFs: modes above "
+                         f"{reduced.n} have no counterpart in it (-)")
         notes.append(f"Craig-Bampton: {len(chains[name])} segments ({6 * len(chains[name])} "
                      f"DOFs) to {reduced.n - (model.n - 6 * len(chains[name]))} DOFs "
                      f"({cb.n_modes} fixed-interface modes up to "

@@ -16,6 +16,7 @@ from typing import Any
 
 from builder.assembly import Assembly
 from builder.errors import InputError, Where
+from builder.options import argtype, whole
 from builder.quantities import Quantity
 from builder.yamlnodes import Node
 
@@ -44,9 +45,10 @@ class SplitBodyPlugin:
 
     def configure_cli(self, parser: argparse.ArgumentParser) -> None:
         """Options of ``lumpgraph plugin split_body FILE``."""
-        parser.add_argument("--count", metavar="N", type=int, default=30,
-                            help="number of vehicle modes (default 30)")
-        parser.add_argument("--craig-bampton", metavar="MODES", type=int,
+        parser.add_argument("--count", metavar="N", type=argtype(whole, "--count", 1, 10_000),
+                            default=30, help="number of vehicle modes (default 30)")
+        parser.add_argument("--craig-bampton", metavar="MODES",
+                            type=argtype(whole, "--craig-bampton", 1, 10_000),
                             help="also reduce the body to MODES fixed-interface modes "
                                  "and compare")
         parser.add_argument("--chain", metavar="NAME",
