@@ -3,7 +3,8 @@
 A *corner* is a road point, its tyre link (a link with one end on
 ``road.NAME``) and the *wheel carrier*: the body on the tyre link (a
 knuckle with its wheel, a trailing arm, or a lumped wheel). The *sprung
-body* is the heaviest body of the model; a corner's *linkage* is the wheel
+body* is the vehicle body (a split body's segments together, never a powertrain
+or a seat; the heaviest body of a plain model); a corner's *linkage* is the wheel
 carrier and every body joined to it through joints without passing the
 sprung body (arms, tie rod). The *wheel centre* is taken above the road
 point at the height of the wheel carrier's cg.
@@ -221,8 +222,8 @@ def suspension_figures(model: LinearModel) -> SuspensionFigures:
     if not by_road:
         raise InputError("no corner: no link stands on a road point (road.NAME)",
                          Where(asm.source, 0, "links"))
-    sprung = max(asm.bodies.values(), key=lambda b: b.mass).name
-    corners = {r: links[0][1] for r, links in by_road.items() if links[0][1] != sprung}
+    sprung, held = _sprung_body(asm)
+    corners = {r: links[0][1] for r, links in by_road.items() if links[0][1] not in held}
     notes: list[str] = []
     skipped = sorted(set(by_road) - set(corners))
     if skipped:
@@ -241,7 +242,7 @@ def suspension_figures(model: LinearModel) -> SuspensionFigures:
     if not corners:
         raise InputError(f"no corner with a suspension of its own: every tyre stands under "
                          f"{sprung} or a solid axle", Where(asm.source, 0, "links"))
-    members = _linkages(asm, corners, sprung)
+    members = _linkages(asm, corners, held)
 
     def point_map(body: str, at: np.ndarray) -> np.ndarray:
         return root.body_map(body, at).toarray() @ E              # 6 x n
@@ -252,11 +253,11 @@ def suspension_figures(model: LinearModel) -> SuspensionFigures:
             D = lm.q_rows().toarray() @ E
             K = K - D.T @ (lm.stiffness[:, None] * D)
     rows, rhs = [], []
-    hold = point_map(sprung, None)
-    for r in hold:
-        if np.abs(r).max() > 0:
-            rows.append(r)
-            rhs.append(0.0)
+    for body in held:
+        for r in point_map(body, None):
+            if np.abs(r).max() > 0:
+                rows.append(r)
+                rhs.append(0.0)
     centres, contacts = {}, {}
     for road, carrier in corners.items():
         at = np.asarray(asm.road[road].at, float)
@@ -286,7 +287,7 @@ def suspension_figures(model: LinearModel) -> SuspensionFigures:
     for road, carrier in corners.items():
         out.append(_corner(root, asm, road, carrier, members[road], y, centres[road],
                            contacts[road], float(wheel_force[road]), by_road[road], tyres))
-    moving = _outside_motion(root, asm, members, sprung, y)
+    moving = _outside_motion(root, asm, members, held, y)
     if moving:
         notes.append("bodies outside the corners move in the travel (their mass is in "
                      "no corner's unsprung mass): " + ", ".join(moving))
@@ -294,7 +295,21 @@ def suspension_figures(model: LinearModel) -> SuspensionFigures:
     return SuspensionFigures(asm.name, sprung, tuple(out), axles, pitch, tuple(notes))
 
 
-def _linkages(asm: Any, corners: dict[str, str], sprung: str) -> dict[str, tuple[str, ...]]:
+def _sprung_body(asm: Any) -> tuple[str, frozenset[str]]:
+    """The sprung body's name and the bodies held as it: the vehicle body of
+    :func:`~builder.analysis.labels.vehicle_body` (a split body's segments together,
+    never a powertrain or a seat), else the heaviest body."""
+    from .labels import vehicle_body
+
+    unit = vehicle_body(asm)
+    if unit is not None and unit.bodies:
+        return unit.name, frozenset(unit.bodies)
+    heaviest = max(asm.bodies.values(), key=lambda b: b.mass).name
+    return heaviest, frozenset((heaviest,))
+
+
+def _linkages(asm: Any, corners: dict[str, str], held: frozenset[str]
+              ) -> dict[str, tuple[str, ...]]:
     """Each corner's linkage: the carrier and the bodies joined to it by joints, not
     through the sprung body."""
     adj: dict[str, set[str]] = {}
@@ -307,7 +322,7 @@ def _linkages(asm: Any, corners: dict[str, str], sprung: str) -> dict[str, tuple
         seen, todo = {carrier}, [carrier]
         while todo:
             for nb in adj.get(todo.pop(), ()):
-                if nb != sprung and nb not in seen:
+                if nb not in held and nb not in seen:
                     seen.add(nb)
                     todo.append(nb)
         out[road] = tuple(b for b in asm.bodies if b in seen)
@@ -321,8 +336,8 @@ def _kinetic(root: LinearModel, asm: Any, body: str, y: np.ndarray) -> float:
 
 
 def _outside_motion(root: LinearModel, asm: Any, members: dict[str, tuple[str, ...]],
-                    sprung: str, y: np.ndarray) -> list[str]:
-    inside = {b for bodies in members.values() for b in bodies} | {sprung}
+                    held: frozenset[str], y: np.ndarray) -> list[str]:
+    inside = {b for bodies in members.values() for b in bodies} | set(held)
     out = []
     for b in asm.bodies:
         if b not in inside:
