@@ -14,10 +14,16 @@ from __future__ import annotations
 import io
 from typing import Any
 
-__all__ = ["pyplot", "figure", "style", "finish", "save_png", "close", "DPI"]
+__all__ = ["pyplot", "figure", "style", "finish", "save_png", "close", "log_floor",
+           "DPI", "LOG_DECADES"]
 
 #: Resolution of the PNG files written (dots per inch).
 DPI = 110
+
+#: Decades below its largest value that a log axis shows (a PSD or FRF that falls
+#: to round-off would otherwise stretch the axis over hundreds of decades, which
+#: reads as nothing and takes matplotlib seconds to tick).
+LOG_DECADES = 10
 
 
 def pyplot() -> Any:
@@ -60,6 +66,16 @@ def finish(fig: Any, title: str = "") -> None:
     if title:
         fig.suptitle(title, fontsize=10)
     fig.tight_layout()
+
+
+def log_floor(*curves: Any, decades: float = LOG_DECADES) -> float:
+    """The lower limit of a log axis that shows ``curves`` down to ``decades`` below
+    their largest finite value (1e-300 when every value is zero)."""
+    import numpy as np
+
+    peaks = [float(np.nanmax(np.abs(c), initial=0.0)) for c in curves if np.size(c)]
+    top = max([p for p in peaks if np.isfinite(p)], default=0.0)
+    return top * 10.0 ** -decades if top > 0 else 1e-300
 
 
 def save_png(fig: Any, path: str) -> None:

@@ -398,10 +398,14 @@ def _frf(model: Any) -> str:
     units = list(dict.fromkeys(sensor_units))
     fig, axes = plt.subplots(len(units), 1, figsize=(8.5, 2.6 * len(units) + 0.6),
                              squeeze=False, sharex=True)
+    from .plots import log_floor
+
     for ax, unit in zip(axes[:, 0], units, strict=True):
-        for j, name in enumerate(model.sensors):
-            if sensor_units[j] == unit:
-                ax.loglog(f, np.maximum(combined[:, j], 1e-300), label=name)
+        columns = [j for j in range(len(model.sensors)) if sensor_units[j] == unit]
+        floor = log_floor(*(combined[:, j] for j in columns))
+        for j in columns:
+            ax.loglog(f, np.maximum(combined[:, j], floor), label=model.sensors[j])
+        ax.set_ylim(bottom=floor)
         ax.set_ylabel(f"|H| ({unit} per m)")
         ax.grid(True, which="both", alpha=0.3)
         ax.legend(fontsize=7, loc="best")

@@ -412,6 +412,8 @@ class RideResult:
         matplotlib.use("Agg")
         import matplotlib.pyplot as plt
 
+        from ..plots import log_floor
+
         units = list(dict.fromkeys(s.unit for s in self.sensors.values()))
         fig, axes = plt.subplots(len(units), 1, figsize=(8, 2.8 * len(units) + 0.6),
                                  squeeze=False, sharex=True)
@@ -424,9 +426,11 @@ class RideResult:
                 if high.size:
                     ax.axvspan(high[0], high[-1], color=color, alpha=0.12, zorder=0,
                                label=f"|{name}| >= 0.9")
-            for s in self.sensors.values():
-                if s.unit == unit:
-                    ax.loglog(f, np.maximum(s.psd, 1e-300), label=s.name)
+            curves = [s for s in self.sensors.values() if s.unit == unit]
+            floor = log_floor(*(s.psd for s in curves))
+            for s in curves:
+                ax.loglog(f, np.maximum(s.psd, floor), label=s.name)
+            ax.set_ylim(bottom=floor)
             ax.set_ylabel(f"PSD ({unit})$^2$/Hz")
             ax.grid(True, which="both", alpha=0.3)
             ax.legend(fontsize=7, loc="best")
