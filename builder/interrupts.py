@@ -27,7 +27,7 @@ from collections.abc import Iterable, Iterator
 from typing import Any
 
 __all__ = ["Terminated", "handled", "exit_status", "ignore_in_worker", "stop_processes",
-           "signals_held", "stderr_line", "exit_now", "pending"]
+           "signals_held", "stderr_line", "exit_now", "pending", "raise_pending", "deferred"]
 
 
 class Terminated(BaseException):
@@ -45,7 +45,7 @@ def exit_status(exc: BaseException) -> int:
     return 128 + int(signal.SIGINT)
 
 
-_state = {"pending": 0}
+_state = {"pending": 0, "deferred": 0}
 
 
 def pending() -> int:
@@ -55,6 +55,14 @@ def pending() -> int:
     return int(_state["pending"])
 
 
+def raise_pending() -> None:
+    """Raise the interrupt received, if any: for loops around library calls that catch
+    the exception the signal raised inside them (VTK's Python callbacks do)."""
+    signum = pending()
+    if signum:
+        raise KeyboardInterrupt() if signum == signal.SIGINT else Terminated(signum)
+
+
 def _handler(signum: int, frame: Any) -> None:
     if _state["pending"]:
         # second signal: the clean-up of the first is taking too long
@@ -62,9 +70,25 @@ def _handler(signum: int, frame: Any) -> None:
             os.write(2, b"lumpgraph: interrupted again; stopped at once\n")
         os._exit(128 + signum)
     _state["pending"] = signum
+    if _state["deferred"]:
+        return                      # raised at the next raise_pending() (see deferred)
     if signum == signal.SIGINT:
         raise KeyboardInterrupt
     raise Terminated(signum)
+
+
+@contextlib.contextmanager
+def deferred() -> Iterator[None]:
+    """Within the block a first signal is only recorded, and raised by the next
+    :func:`raise_pending` (and on leaving the block): for loops around library code
+    that would catch the exception inside its own callbacks and print it (VTK's
+    pipeline does). A second signal still ends the process at once."""
+    _state["deferred"] += 1
+    try:
+        yield
+    finally:
+        _state["deferred"] -= 1
+    raise_pending()
 
 
 @contextlib.contextmanager

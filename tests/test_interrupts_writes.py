@@ -190,7 +190,8 @@ def test_sigterm_during_work_exits_143():
 
 @pytest.mark.parametrize("signum", [signal.SIGTERM, signal.SIGINT])
 def test_sweep_workers_leave_no_process_and_resume_exactly(signum, tmp_path):
-    args = ["sweep", COMPACT, "--vary", "ks_front=15kN/m..30kN/m:6000", "--chunk", "25",
+    # 60,000 variants: far longer than the 4 s before the signal, even on a quiet machine
+    args = ["sweep", COMPACT, "--vary", "ks_front=15kN/m..30kN/m:60000", "--chunk", "25",
             "--csv", tmp_path / "w.csv"]
     code, err, took, left = _interrupt([*args, "--workers", "2"], signum, wait_for="scipy",
                                        delay=4.0)

@@ -36,6 +36,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..errors import InputError
+from ..interrupts import deferred, raise_pending
 from .look import (
     Caption,
     band_height,
@@ -621,10 +622,12 @@ def save_mode_animation(scene: Scene, dofs: Sequence[str], mode: Any,
     field, caption, view = _mode_inputs(scene, dofs, mode, view, size)
     images = []
     band = fit_band(size, [caption], legend=True)
-    with ModeRenderer(scene, size, scale=scale, anti_aliasing=False, band=band) as renderer:
+    with deferred(), ModeRenderer(scene, size, scale=scale, anti_aliasing=False,
+                                  band=band) as renderer:
         renderer.set_mode(field, caption)
         renderer.set_view(view)
         for k in range(frames):
+            raise_pending()         # a Ctrl-C, held off while VTK draws a frame
             renderer.set_phase(2.0 * math.pi * k / frames)
             images.append(renderer.screenshot())
     data = encode_gif(images, fps) if suffix == ".gif" else _encode_mp4(images, fps)

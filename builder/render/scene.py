@@ -100,7 +100,13 @@ def import_pyvista() -> ModuleType:
     if not os.environ.get("DISPLAY") and "VTK_DEFAULT_OPENGL_WINDOW" not in os.environ:
         os.environ["VTK_DEFAULT_OPENGL_WINDOW"] = "vtkEGLRenderWindow"
     import pyvista
+    from vtkmodules.vtkCommonCore import vtkLogger, vtkObject
 
+    # VTK's own log lines never reach the user: lumpgraph checks what it draws and
+    # writes, and a Ctrl-C landing in a VTK callback would otherwise print VTK's
+    # report of the interrupted callback instead of one line (builder.interrupts)
+    vtkLogger.SetStderrVerbosity(vtkLogger.VERBOSITY_OFF)
+    vtkObject.GlobalWarningDisplayOff()
     return pyvista
 
 
