@@ -413,7 +413,7 @@ def test_decoupled_design_leads_with_pure_modes_in_words():
     bounce = next(m for m in modes if m["dominant"] == "bounce")
     assert bounce["frequency_hz"] == pytest.approx(
         math.sqrt(4 * 2.0e5 / 120.0) / (2 * math.pi), rel=1e-12)
-    assert "bounce, 100.0 % pure" in rep.table()
+    assert "bounce, 100.0 % pure; uncoupled" in rep.table()
     # the default printout leaves the energy matrix out; --detail (detail=True) keeps it
     assert "rx %" not in rep.table()
     assert "rx %" in engine_report(spec, detail=True).table()

@@ -49,9 +49,10 @@ class ModeMotion:
                 "coupled": self.coupled, "coupled_share": self.coupled_share}
 
     def line(self) -> str:
+        coupling = ("uncoupled" if self.coupled_share < 5e-4 else  # prints as 0.0 %
+                    f"coupled most with {self.coupled} {percent(self.coupled_share)}")
         return (f"  mode {self.mode:<2} {number(self.frequency_hz, '.2f'):>6} Hz  "
-                f"{self.dominant}, {percent(self.purity)} pure; "
-                f"coupled most with {self.coupled} {percent(self.coupled_share)}")
+                f"{self.dominant}, {percent(self.purity)} pure; {coupling}")
 
 
 def mode_motions(freqs: np.ndarray, energy: np.ndarray, words: tuple[str, ...],
