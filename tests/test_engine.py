@@ -331,7 +331,7 @@ def test_cli_plugins_lists_engine_and_plugin_prints_the_tables(run_cli, tmp_path
     assert "engine:" in out and "crank_axis" in out and "mounts" in out
     code, out, err = run_cli("plugin", "engine", "assemblies/compact_car_engine.yaml")
     assert code == 0, err
-    for words in ("mount-system modes", "torque roll axis",
+    for words in ("mount modes", "torque roll axis",
                   "idle shake", "isolates", "roll torque"):
         assert words in out
     plot = tmp_path / "orders.png"
@@ -388,3 +388,63 @@ def test_mode_labels_use_crank_aligned_words():
     assert any(lab.startswith("powertrain roll about the crank") for lab in labels)
     assert any(lab.startswith("powertrain bounce") for lab in labels)
     assert not any(lab.startswith("pt ") for lab in labels)
+
+
+# ------------------------------------------------------- lead lines of the printout --
+
+def test_decoupled_design_leads_with_pure_modes_in_words():
+    # Analytic: elastic centre at the cg, mounts' axes along the principal axes of a
+    # diagonal inertia tensor: every mode moves in one direction only (purity 100 %),
+    # bounce at sqrt(4 kz / m) / 2 pi.
+    import dataclasses
+
+    from plugins.engine import engine_report, engine_specs
+    M6, cg, mounts, _ = _decoupled()
+    spec = dataclasses.replace(engine_specs(load_text(engine_yaml()))[0], mass=120.0,
+                               cg=cg, inertia=M6[3:, 3:], mounts=tuple(mounts),
+                               crank_axis=np.array([1.0, 0.0, 0.0]))
+    rep = engine_report(spec)
+    modes = rep.figures["mount_modes"]
+    assert [m["purity"] for m in modes] == pytest.approx([1.0] * 6, abs=1e-9)
+    assert max(m["coupled_share"] for m in modes) < 1e-9
+    assert sorted(m["dominant"] for m in modes) == sorted(
+        ("motion along the crank", "motion across the crank", "bounce",
+         "roll about the crank", "pitch", "yaw"))
+    bounce = next(m for m in modes if m["dominant"] == "bounce")
+    assert bounce["frequency_hz"] == pytest.approx(
+        math.sqrt(4 * 2.0e5 / 120.0) / (2 * math.pi), rel=1e-12)
+    assert "bounce, 100.0 % pure; uncoupled" in rep.table()
+    # the default printout leaves the energy matrix out; --detail (detail=True) keeps it
+    assert "rx %" not in rep.table()
+    assert "rx %" in engine_report(spec, detail=True).table()
+
+
+def test_printout_leads_with_the_figures_of_the_json(run_cli):
+    # every lead figure recomputed from the JSON's own matrices (shares, axes, idle)
+    path = "assemblies/compact_car_engine.yaml"
+    code, out, err = run_cli("plugin", "engine", path)
+    assert code == 0, err
+    code, text, err = run_cli("plugin", "engine", path, "--json")
+    eng = json.loads(text)["engines"][0]
+    fig = eng["figures"]
+    assert out.startswith("\n".join(eng["summary"]) + "\n")
+    energy = np.array(fig["energy"])
+    for i, m in enumerate(fig["mount_modes"]):
+        row = np.sort(energy[i])[::-1]
+        assert m["purity"] == pytest.approx(row[0], abs=1e-6)
+        assert m["coupled_share"] == pytest.approx(row[1], abs=1e-6)
+        assert (f"mode {i + 1:<2} {fig['frequencies_hz'][i]:6.2f} Hz  {m['dominant']}, "
+                f"{100 * row[0]:.1f} % pure; coupled most with {m['coupled']} "
+                f"{100 * row[1]:.1f} %") in out
+    worst = int(np.argmin(energy.max(axis=1)))
+    assert fig["worst_coupling"]["mode"] == worst + 1
+    assert f"least pure: mode {worst + 1} ({fig['frequencies_hz'][worst]:.2f} Hz)" in out
+    idle = fig["idle_shake"]
+    assert f"is {idle['firing_hz'] / idle['highest_mode_hz']:.2f} x the highest" in out
+    assert idle["highest_mode_hz"] == pytest.approx(max(fig["frequencies_hz"]))
+    assert f"elastic roll axis is {fig['elastic_axis']['angle_to_tra_deg']:.1f} deg" in out
+    assert f"axis {fig['roll_mode_axis']['angle_to_tra_deg']:.1f} deg from it" in out
+    assert "rx %" not in out and "angle to TRA deg" not in out
+    code, detail, err = run_cli("plugin", "engine", path, "--detail")
+    assert code == 0 and "rx %" in detail and "angle to TRA deg" in detail
+    assert detail.startswith(out.split("\n\n")[0])

@@ -108,3 +108,30 @@ def test_sensitivities_and_targets_print_per_engineering_unit(run_cli):
     code, out, _ = run_cli("sweep", CARS / "compact_car.yaml", "--vary",
                            "ks_front=15kN/m..30kN/m:2", "--target", "1=1.1Hz")
     assert code == 0 and re.search(r"ks_front +\d+(\.\d+)? kN/m", out)
+
+
+def test_ladder_leads_each_depth_with_its_decision_figures(run_cli):
+    # the lead figures recomputed from the JSON rungs (pure arithmetic on to_dict())
+    import json
+
+    code, out, _ = run_cli("ladder", CARS / "compact_car.yaml")
+    assert code == 0 and "  mode   f (Hz)" not in out          # pairs only with --detail
+    code, text, _ = run_cli("ladder", CARS / "compact_car.yaml", "--json")
+    data = json.loads(text)
+    for depth in data["depths"]:
+        modes = depth["modes"]
+        worst = max(modes, key=lambda m: abs(m["frequency_error"]))
+        low = min(modes, key=lambda m: m["mac"])
+        good = {m["full_mode"] for m in modes
+                if m["mac"] >= 0.9 and abs(m["frequency_error"]) <= 0.05}
+        lead = out.split(f"depth {depth['depth']}: ")[1].splitlines()[1]
+        assert lead.startswith(f"  {len(good)} of {len(modes)} mode")
+        assert f"worst error {100 * worst['frequency_error']:+.2f} % on mode " \
+               f"{worst['number']} ({worst['frequency_hz']:.3f} Hz" in lead
+        assert f"lowest MAC {low['mac']:.3f} on mode {low['number']}" in lead
+    code, detail, _ = run_cli("ladder", CARS / "compact_car.yaml", "--detail")
+    assert code == 0 and detail.count("  mode   f (Hz)") == len(data["depths"])
+    assert "+8.14 %  body bounce" in detail
+    code, _, err = run_cli("ladder", CARS / "compact_car.yaml", "--detail", "--frf",
+                           "road.fl:floor_front")
+    assert code == 2 and "--detail" in err

@@ -22,7 +22,13 @@ from ..reduce import reduce_to_depth
 from .labels import vehicle_body
 from .modes import ModeSet, compute_modes, mac_matrix
 
-__all__ = ["Rung", "Ladder", "compute_ladder", "proposed_depths"]
+__all__ = ["Rung", "Ladder", "compute_ladder", "proposed_depths", "REPRODUCED_ERROR",
+           "REPRODUCED_MAC"]
+
+# a depth reproduces a full-model mode when it matches it within both
+# (common practice in test-analysis correlation, no source for the exact values)
+REPRODUCED_ERROR = 0.05
+REPRODUCED_MAC = 0.9
 
 
 @dataclass(frozen=True, eq=False)
@@ -35,6 +41,38 @@ class Rung:
     match: tuple[int, ...]          # full-model mode number matched (1-based), 0 if none
     mac: tuple[float, ...]
     error: tuple[float, ...]        # relative frequency error vs the matched full mode
+
+    def worst_error(self) -> int | None:
+        """Index of the mode with the largest absolute frequency error (None: no modes)."""
+        return max(range(len(self.error)), key=lambda i: abs(self.error[i]), default=None)
+
+    def lowest_mac(self) -> int | None:
+        """Index of the mode with the lowest MAC (None: no modes)."""
+        return min(range(len(self.mac)), key=lambda i: self.mac[i], default=None)
+
+    def reproduced(self, error: float = REPRODUCED_ERROR,
+                   mac: float = REPRODUCED_MAC) -> tuple[int, ...]:
+        """Full-model mode numbers (1-based) this depth matches within ``error``
+        (relative frequency error) and at or above ``mac``, each once."""
+        return tuple(sorted({k for k, c, e in zip(self.match, self.mac, self.error,
+                                                  strict=True)
+                             if k and c >= mac and abs(e) <= error}))
+
+    def lead(self) -> str:
+        """One line: the depth, its size, how many full modes it reproduces, its worst
+        frequency error (with the mode) and its lowest MAC."""
+        head = f"depth {self.depth}: {count(len(self.dofs), 'DOF')} ({', '.join(self.dofs)})"
+        w, lo = self.worst_error(), self.lowest_mac()
+        if w is None or lo is None:
+            return f"{head}: no modes"
+        n = len(self.reproduced())
+        worst = self.modes.modes[w]
+        low = self.modes.modes[lo]
+        return (f"{head}\n  {n} of {count(len(self.mac), 'mode')} reproduced (within "
+                f"{percent(REPRODUCED_ERROR, 0)}, MAC {REPRODUCED_MAC:g}); worst error "
+                f"{percent(self.error[w], 2, signed=True)} on mode {worst.number} "
+                f"({worst.frequency_hz:.3f} Hz, {worst.label}); lowest MAC "
+                f"{self.mac[lo]:.3f} on mode {low.number}")
 
     def to_dict(self) -> dict[str, Any]:
         return {"depth": self.depth, "dof_count": len(self.dofs), "dofs": list(self.dofs),
@@ -58,19 +96,26 @@ class Ladder:
                          "frequencies_hz": self.full.frequencies_hz.tolist()},
                 "depths": [r.to_dict() for r in self.rungs], "notes": list(self.notes)}
 
-    def table(self) -> str:
+    def table(self, detail: bool = False) -> str:
+        """Per depth its lead line (size, modes reproduced, worst frequency error,
+        lowest MAC); with ``detail`` then each mode against its full-model match."""
         lines = [f"full model: {count(self.full.model.n, 'DOF')}"
                  + (" (depths proposed by lumpgraph: the file has none)" if self.proposed
                     else "")]
         for r in self.rungs:
             lines.append("")
-            lines.append(f"depth {r.depth}: {count(len(r.dofs), 'DOF')} ({', '.join(r.dofs)})")
+            lines.append(r.lead())
+            if not detail:
+                continue
             lines.append(f"  {'mode':>4} {'f (Hz)':>8} {'full':>5} {'f full':>8} {'MAC':>6} "
                          f"{'error':>9}  label")
             for m, k, c, e in zip(r.modes.modes, r.match, r.mac, r.error):
                 ff = self.full.modes[k - 1].frequency_hz if k else float("nan")
                 lines.append(f"  {m.number:>4} {m.frequency_hz:8.3f} {k:>5} {ff:8.3f} "
                              f"{c:6.3f} {percent(e, 2, signed=True):>9}  {m.label}")
+        if not detail and self.rungs:
+            lines.append("")
+            lines.append("each mode against its full-model match: --detail")
         lines.extend(f"note: {n}" for n in self.notes)
         return "\n".join(lines)
 

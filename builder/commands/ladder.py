@@ -1,4 +1,4 @@
-"""``lumpgraph ladder FILE [--json]``: every depth against the full model.
+"""``lumpgraph ladder FILE [--detail] [--json]``: every depth against the full model.
 
 Without response options every depth's modes are matched to the full
 model's (MAC, frequency error). With ``--ride CLASS --speed V``, ``--bump
@@ -50,6 +50,9 @@ def configure(parser: argparse.ArgumentParser) -> None:
                         "upward for the first within the tolerance")
     parser.add_argument("--plot", default=None, metavar="OUT.png",
                         help="with response figures: a PNG of error against DOF count")
+    parser.add_argument("--detail", action="store_true",
+                        help="without response options: each mode of every depth against "
+                        "its full-model match (MAC, frequency error)")
     parser.add_argument("--json", action="store_true", help="print the ladder as JSON")
 
 
@@ -147,8 +150,11 @@ def run(args: argparse.Namespace) -> int:
         if args.json:
             print_json(ladder)
         else:
-            print(ladder.table())
+            print(ladder.table(detail=args.detail))
         return 0
+    if args.detail:
+        raise InputError("lists modal matches; the response figures are printed in full",
+                         Where(field="--detail"))
     from ..analysis.response_ladder import response_ladder
 
     tolerance = parse_tolerance(args.tolerance)

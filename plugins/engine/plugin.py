@@ -48,6 +48,9 @@ class EnginePlugin:
                             type=argtype(quantity, "--target-bounce", "frequency", high=1000.0,
                                          unit="Hz"),
                             help="target bounce frequency for mount-rate scaling (Hz)")
+        parser.add_argument("--detail", action="store_true",
+                            help="also print the energy matrices (mode x direction), the axis "
+                            "table and the idle-shake table")
         parser.add_argument("--plot", metavar="OUT.png",
                             type=argtype(output_file, "--plot", (".png",)),
                             help="write the order plot (PNG)")
@@ -70,7 +73,8 @@ class EnginePlugin:
                 raise InputError(f"must be a positive frequency in Hz, got {v}",
                                  Where(field=flag))
         reports = [engine_report(s, model, options.get("axes", "crank"),
-                                 target_roll_hz=roll, target_bounce_hz=bounce)
+                                 target_roll_hz=roll, target_bounce_hz=bounce,
+                                 detail=bool(options.get("detail")))
                    for s in engine_specs(assembly)]
         if options.get("plot"):
             for s in engine_specs(assembly):

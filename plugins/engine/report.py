@@ -10,28 +10,85 @@ from typing import Any
 
 import numpy as np
 
+from builder.formatting import number, percent
 from builder.kinematics import DOF_NAMES
 from builder.plugin import Table
 
 from . import analysis as an
+from .labels import _KEYS, _WORDS
 from .params import EngineSpec
 
-__all__ = ["EngineReport", "EngineReports", "engine_report"]
+__all__ = ["EngineReport", "EngineReports", "ModeMotion", "engine_report", "mode_motions",
+           "direction_words"]
+
+
+def direction_words(axes_kind: str) -> tuple[str, ...]:
+    """The six table directions (x y z rx ry rz of the table's axes) in words."""
+    if axes_kind == "principal":
+        return (*(f"motion along principal axis {i}" for i in (1, 2, 3)),
+                *(f"rotation about principal axis {i}" for i in (1, 2, 3)))
+    return tuple(_WORDS[k] for k in _KEYS)
+
+
+@dataclass(frozen=True)
+class ModeMotion:
+    """One mode's motion read from its kinetic-energy shares: the dominant
+    direction and its share (the purity, 1 = fully decoupled), and the largest
+    other direction and its share."""
+
+    mode: int                 # 1-based
+    frequency_hz: float
+    dominant: str
+    purity: float             # share of kinetic energy in the dominant direction, 0..1
+    coupled: str
+    coupled_share: float      # share of the largest other direction, 0..1
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"mode": self.mode, "frequency_hz": self.frequency_hz,
+                "dominant": self.dominant, "purity": self.purity,
+                "coupled": self.coupled, "coupled_share": self.coupled_share}
+
+    def line(self) -> str:
+        coupling = ("uncoupled" if self.coupled_share < 5e-4 else  # prints as 0.0 %
+                    f"coupled most with {self.coupled} {percent(self.coupled_share)}")
+        return (f"  mode {self.mode:<2} {number(self.frequency_hz, '.2f'):>6} Hz  "
+                f"{self.dominant}, {percent(self.purity)} pure; {coupling}")
+
+
+def mode_motions(freqs: np.ndarray, energy: np.ndarray, words: tuple[str, ...],
+                 numbers: Any = None) -> tuple[ModeMotion, ...]:
+    """Each mode's :class:`ModeMotion` from its frequency (Hz) and its row of
+    energy shares (rows sum to 1) over the six directions named by ``words``."""
+    out = []
+    for i, (f, row) in enumerate(zip(freqs, np.asarray(energy), strict=True)):
+        order = np.argsort(-row, kind="stable")
+        out.append(ModeMotion(int(numbers[i]) if numbers is not None else i + 1, float(f),
+                              words[order[0]], float(row[order[0]]), words[order[1]],
+                              float(row[order[1]])))
+    return tuple(out)
 
 
 @dataclass(frozen=True)
 class EngineReport:
-    """All figures of one engine block, as tables."""
+    """All figures of one engine block: lead lines (what the engineer decides on)
+    and tables; the tables named in ``detail_only`` print only with ``detail``."""
 
     name: str
     tables: tuple[Table, ...]
     figures: dict[str, Any]
+    lead: tuple[str, ...] = ()
+    detail_only: tuple[str, ...] = ()
+    detail: bool = False
 
     def table(self) -> str:
-        return "\n\n".join(t.text() for t in self.tables)
+        shown = [t.text() for t in self.tables
+                 if self.detail or t.title not in self.detail_only]
+        tail = () if self.detail or not self.detail_only else (
+            "  the energy matrices, axis and idle tables: --detail",)
+        return "\n\n".join(["\n".join((*self.lead, *tail)), *shown])
 
     def to_dict(self) -> dict[str, Any]:
-        return {"engine": self.name, "figures": self.figures,
+        return {"engine": self.name, "summary": list(self.lead), "figures": self.figures,
                 "tables": [t.to_dict() for t in self.tables]}
 
 
@@ -52,13 +109,15 @@ def _vec(v: np.ndarray, digits: int = 4) -> list[float]:
     return [round(float(x), digits) for x in v]
 
 
-def _in_vehicle(model: Any, spec: EngineSpec, axes: np.ndarray) -> tuple[Table | None, str]:
-    """Modes of the (reduced) vehicle model in which the powertrain moves most."""
+def _in_vehicle(model: Any, spec: EngineSpec, axes: np.ndarray, words: tuple[str, ...]
+                ) -> tuple[Table | None, str, list[tuple[ModeMotion, float]]]:
+    """Modes of the (reduced) vehicle model in which the powertrain moves most, and
+    each one's motion with the powertrain's share of its kinetic energy."""
     import scipy.linalg
 
     labels = [f"{spec.name}.{d}" for d in DOF_NAMES]
     if model is None or not all(lab in model.dofs for lab in labels):
-        return None, "the vehicle model does not keep all six powertrain DOFs"
+        return None, "the vehicle model does not keep all six powertrain DOFs", []
     M = model.M.toarray()
     K = model.K.toarray()
     lam, phi = scipy.linalg.eigh(0.5 * (K + K.T), 0.5 * (M + M.T))
@@ -80,7 +139,8 @@ def _in_vehicle(model: Any, spec: EngineSpec, axes: np.ndarray) -> tuple[Table |
                    *(f"{d} %" for d in an.DIRECTIONS)), rows,
                   ("the six vehicle modes with the largest share of kinetic energy in the "
                    "powertrain; the directions split that share",))
-    return table, ""
+    motions = mode_motions(freqs, energy, words, [j + 1 for j in chosen])
+    return table, "", [(m, float(share[j])) for m, j in zip(motions, chosen, strict=True)]
 
 
 def _vehicle_roll_response(model: Any, spec: EngineSpec, rpm: np.ndarray
@@ -117,8 +177,10 @@ def _vehicle_roll_response(model: Any, spec: EngineSpec, rpm: np.ndarray
 
 def engine_report(spec: EngineSpec, model: Any = None, axes_kind: str = "crank",
                   speeds: int = 12, target_roll_hz: float | None = None,
-                  target_bounce_hz: float | None = None) -> EngineReport:
-    """Every analysis of one engine block (mounts grounded, and in ``model`` when given)."""
+                  target_bounce_hz: float | None = None, detail: bool = False
+                  ) -> EngineReport:
+    """Every analysis of one engine block (mounts grounded, and in ``model`` when given);
+    ``detail`` prints the energy matrices, axis and idle tables after the lead lines."""
     axes, axes_words = _axes(spec, axes_kind)
     M6 = an.rigid_mass_matrix(spec.mass, spec.inertia)
     K6, C6, _ = an.mount_matrices(spec.cg, spec.mounts)
@@ -127,7 +189,8 @@ def engine_report(spec: EngineSpec, model: Any = None, axes_kind: str = "crank",
         f"{spec.name}: mount-system modes, mounts grounded (energy in {axes_words})",
         freqs, energy, ("kinetic-energy share of each mode in each direction; 100 % on "
                         "one direction is a fully decoupled mode",))]
-    vehicle, why = _in_vehicle(model, spec, axes)
+    words = direction_words(axes_kind)
+    vehicle, why, in_vehicle = _in_vehicle(model, spec, axes, words)
     if vehicle is not None:
         tables.append(vehicle)
 
@@ -205,7 +268,34 @@ def engine_report(spec: EngineSpec, model: Any = None, axes_kind: str = "crank",
         figures["rate_scaling"] = {"axial_factor": sc.axial_factor,
                                    "shear_factor": sc.shear_factor, "roll_hz": sc.roll_hz,
                                    "bounce_hz": sc.bounce_hz, "converged": sc.converged}
-    return EngineReport(spec.name, tuple(tables), figures)
+    motions = mode_motions(freqs, energy, words)
+    worst = min(motions, key=lambda m: m.purity)
+    figures["mount_modes"] = [m.to_dict() for m in motions]
+    figures["worst_coupling"] = worst.to_dict()
+    lead = [f"{spec.name}: mount modes, mounts grounded (energy in {axes_words})",
+            *(m.line() for m in motions),
+            f"  least pure: mode {worst.mode} ({number(worst.frequency_hz, '.2f')} Hz), "
+            f"{worst.dominant} {percent(worst.purity)} with {worst.coupled} "
+            f"{percent(worst.coupled_share)}",
+            f"  idle shake: firing {number(idle.firing_hz, '.2f')} Hz at "
+            f"{idle.idle_rpm:.0f} rpm is {idle.ratio:.2f} x the highest mount mode "
+            f"({number(idle.highest_mode_hz, '.2f')} Hz): "
+            + (f"isolates (above {idle.crossover:.3f} x)" if idle.isolates
+               else f"does NOT isolate (needs above {idle.crossover:.3f} x)")
+            + f", undamped transmissibility {idle.transmissibility:.3f}",
+            f"  torque roll axis: the elastic roll axis is {angle_ea:.1f} deg from it; the "
+            f"roll mode (mode {roll + 1}, {number(freqs[roll], '.2f')} Hz) turns about an "
+            f"axis {angle_roll:.1f} deg from it, passing {1000 * offset:.0f} mm from it at "
+            "the cg"]
+    if in_vehicle:
+        lead += ["", f"{spec.name}: modes in the vehicle with the most powertrain motion"]
+        lead += [f"{m.line()}; powertrain {percent(sh)} of the mode"
+                 for m, sh in in_vehicle]
+    else:
+        lead.append(f"  in-vehicle modes not shown: {why}")
+    # the energy matrices, the axis table and the idle table: their figures lead above
+    detail_only = tuple(t.title for t in tables[:4 if vehicle is not None else 3])
+    return EngineReport(spec.name, tuple(tables), figures, tuple(lead), detail_only, detail)
 
 
 class EngineReports(list):
