@@ -458,7 +458,9 @@ def _percent(x: float) -> str:
     return f"{value:.2g} %" if value < 10 else f"{value:.0f} %"
 
 
-def _assembly_of(model: Any, assembly: Any) -> Any:
+def assembly_of(model: Any, assembly: Any = None) -> Any:
+    """``assembly`` if given, else the assembly ``model`` (or a model it was reduced
+    from) carries; None when there is none."""
     current = model
     while assembly is None and current is not None:
         assembly = getattr(current, "assembly", None)
@@ -753,7 +755,7 @@ def ride_response(model: Any, road_class: str, speed_m_s: float, *, waviness: fl
         names = [s for s in names if s in set(sensors)]
     if not names:
         raise InputError("the model has no sensors to report", Where(field="sensors"))
-    asm = _assembly_of(model, assembly)
+    asm = assembly_of(model, assembly)
     positions = np.asarray(model.input_positions)[:, :2]
 
     def spectrum(f: NDArray) -> NDArray:

@@ -14,7 +14,7 @@ from ...errors import InputError, Where
 from ...formatting import percent, text_table
 from .. import comfort
 from ..evaluate import channel_figures
-from ..ride import sensor_weighting
+from ..ride import assembly_of, sensor_weighting
 
 
 def time_response(model: Any, rows: NDArray, t: NDArray, r: NDArray, y: NDArray, *,
@@ -36,17 +36,9 @@ def notes_of(model: Any) -> list[str]:
     return []
 
 
-def _assembly_of(model: Any, assembly: Any) -> Any:
-    current = model
-    while assembly is None and current is not None:
-        assembly = getattr(current, "assembly", None)
-        current = getattr(current, "parent", None)
-    return assembly
-
-
 def result_of(model: Any, assembly: Any, rows: NDArray, t: NDArray, r: NDArray, y: NDArray,
             v: float, event: dict, description: str, notes: list[str]) -> TimeResponse:
-    asm = _assembly_of(model, assembly)
+    asm = assembly_of(model, assembly)
     names = tuple(model.sensors[i] for i in rows)
     units = tuple(model.sensor_units[i] for i in rows)
     measures = tuple(model.sensor_measures[i] for i in rows)
